@@ -1,0 +1,14 @@
+//! hoverline: transition-phase trim and stability analysis for VTOL airframes.
+//!
+//! The core (every module but `output`) is pure: no file or terminal I/O beyond reading the
+//! user's vehicle and scenario files in `vehicle::file` and `scenario`.
+
+pub mod aero;
+pub mod atmosphere;
+pub mod dynamics;
+pub mod input;
+pub mod linear;
+pub mod rotor;
+pub mod scenario;
+pub mod trim;
+pub mod vehicle;

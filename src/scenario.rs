@@ -1,0 +1,444 @@
+//! The scenario file (TOML): which vehicle, the atmosphere, the mass case, the speed sweep, the
+//! flight-path angle, the transition schedule, the margin thresholds and the output folder.
+//!
+//! A schedule is a table of the transition variable against airspeed: tilt angle for vehicles
+//! with a tilt actuator, pitch attitude for vehicles without one (tail-sitters), or `free`
+//! (the trim solver picks it). `hoverline schedule` writes files in this same format.
+
+use std::path::{Path, PathBuf};
+
+use serde::{Deserialize, Serialize};
+
+use crate::input::{InputError, Invalid, KeyPath};
+use crate::vehicle::{load_vehicle, Point, Vehicle};
+
+/// Top level of a scenario file.
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScenarioFile {
+    /// Scenario name; also the default output folder `out/<name>/`.
+    pub name: String,
+    /// Free text.
+    #[serde(default)]
+    pub description: String,
+    /// Vehicle file, relative to the scenario file.
+    pub vehicle: String,
+    /// Output folder (relative to the working directory); default `out/<name>`.
+    pub output_dir: Option<String>,
+    /// Atmosphere.
+    #[serde(default)]
+    pub atmosphere: AtmosphereFile,
+    /// Mass case overrides.
+    #[serde(default)]
+    pub mass_case: MassCaseFile,
+    /// Speed sweep.
+    pub sweep: SweepFile,
+    /// Transition schedule.
+    #[serde(default)]
+    pub schedule: ScheduleFile,
+    /// Margin thresholds.
+    #[serde(default)]
+    pub thresholds: Thresholds,
+    /// Transition manoeuvre settings.
+    #[serde(default)]
+    pub transition: TransitionFile,
+}
+
+/// `[atmosphere]`
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct AtmosphereFile {
+    /// Geopotential altitude (m).
+    #[serde(default)]
+    pub altitude_m: f64,
+    /// ISA temperature offset (K).
+    #[serde(default)]
+    pub temperature_offset_k: f64,
+}
+
+/// `[mass_case]`
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct MassCaseFile {
+    /// Mass replacing the vehicle's (kg).
+    pub mass_kg: Option<f64>,
+    /// CG shift forward (m).
+    #[serde(default)]
+    pub cg_shift_x_m: f64,
+    /// CG shift down (m).
+    #[serde(default)]
+    pub cg_shift_z_m: f64,
+}
+
+/// `[sweep]`
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct SweepFile {
+    /// First airspeed (m/s).
+    pub from_mps: f64,
+    /// Last airspeed (m/s).
+    pub to_mps: f64,
+    /// Step (m/s).
+    pub step_mps: f64,
+    /// Flight-path angle, climbing positive (deg).
+    #[serde(default)]
+    pub climb_deg: f64,
+}
+
+/// What the schedule table holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum ScheduleMode {
+    /// The trim solver chooses the transition variable.
+    #[default]
+    Free,
+    /// Tilt angle of every tilt actuator against speed.
+    Tilt,
+    /// Pitch attitude against speed (vehicles without a tilt actuator).
+    Pitch,
+}
+
+/// `[schedule]`
+#[derive(Debug, Clone, Default, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScheduleFile {
+    /// free, tilt or pitch.
+    #[serde(default)]
+    pub mode: ScheduleMode,
+    /// Airspeeds of the table (m/s), increasing.
+    #[serde(default)]
+    pub speed_mps: Vec<f64>,
+    /// Transition variable at each speed (deg).
+    #[serde(default)]
+    pub value_deg: Vec<f64>,
+}
+
+/// `[thresholds]`: margins below these make a point unsafe. The defaults are common practice
+/// for preliminary design, not requirements.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields, default)]
+pub struct Thresholds {
+    /// Smallest stall margin of any surface part (deg).
+    pub stall_margin_deg: f64,
+    /// Smallest thrust margin of any rotor group (fraction of thrust available).
+    pub thrust_margin: f64,
+    /// Smallest power margin of any rotor group (fraction of power available).
+    pub power_margin: f64,
+    /// Smallest pitch acceleration authority, nose-up and nose-down (rad/s^2).
+    pub pitch_accel_rad_s2: f64,
+    /// Smallest elevator travel left (deg), checked only where the elevator has authority.
+    pub elevator_margin_deg: f64,
+    /// Smallest static margin where wingborne (% chord).
+    pub static_margin_pct: f64,
+    /// Shortest acceptable time to double amplitude of an unstable mode (s).
+    pub time_to_double_s: f64,
+    /// Smallest loop gain margin (dB).
+    pub gain_margin_db: f64,
+    /// Smallest loop phase margin (deg).
+    pub phase_margin_deg: f64,
+}
+
+impl Default for Thresholds {
+    fn default() -> Self {
+        // Common practice, no source: typical preliminary-design allowances.
+        Thresholds {
+            stall_margin_deg: 3.0,
+            thrust_margin: 0.15,
+            power_margin: 0.10,
+            pitch_accel_rad_s2: 0.5,
+            elevator_margin_deg: 2.0,
+            static_margin_pct: 5.0,
+            time_to_double_s: 2.0,
+            // MIL-F-9490D flight-control stability margins (from memory).
+            gain_margin_db: 6.0,
+            phase_margin_deg: 45.0,
+        }
+    }
+}
+
+/// `[transition]`: how the manoeuvre is flown.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields, default)]
+pub struct TransitionFile {
+    /// Planned acceleration along the path (m/s^2).
+    pub acceleration_mps2: f64,
+    /// Planned deceleration for cruise-to-hover (m/s^2, positive).
+    pub deceleration_mps2: f64,
+    /// Largest change of the transition variable per unit speed between neighbouring schedule
+    /// points, as a smoothness bound (deg per (m/s)^2 of second difference).
+    pub smoothness_deg_per_mps2: f64,
+}
+
+impl Default for TransitionFile {
+    fn default() -> Self {
+        // Common practice, no source.
+        TransitionFile {
+            acceleration_mps2: 1.0,
+            deceleration_mps2: 0.8,
+            smoothness_deg_per_mps2: 4.0,
+        }
+    }
+}
+
+/// A schedule of the transition variable against airspeed, validated.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub enum Schedule {
+    /// The solver picks the variable.
+    Free,
+    /// Tilt (rad) of every tilt actuator, interpolated linearly in speed.
+    Tilt(Table),
+    /// Pitch attitude (rad), interpolated linearly in speed.
+    Pitch(Table),
+}
+
+/// A piecewise-linear table y(speed); held constant outside its range.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Table {
+    /// Speeds (m/s), strictly increasing.
+    pub speed_mps: Vec<f64>,
+    /// Values (rad).
+    pub value_rad: Vec<f64>,
+}
+
+impl Table {
+    /// Linear interpolation, clamped at the ends.
+    pub fn at(&self, speed_mps: f64) -> f64 {
+        let s = &self.speed_mps;
+        let y = &self.value_rad;
+        if speed_mps <= s[0] {
+            return y[0];
+        }
+        if speed_mps >= s[s.len() - 1] {
+            return y[y.len() - 1];
+        }
+        let i = s.partition_point(|&x| x <= speed_mps) - 1;
+        let t = (speed_mps - s[i]) / (s[i + 1] - s[i]);
+        y[i] + t * (y[i + 1] - y[i])
+    }
+}
+
+/// A validated scenario with its vehicle loaded and the mass case applied.
+#[derive(Debug, Clone)]
+pub struct Scenario {
+    /// The file contents, as read.
+    pub file: ScenarioFile,
+    /// Where the scenario file is.
+    pub path: PathBuf,
+    /// The vehicle file path.
+    pub vehicle_path: PathBuf,
+    /// The vehicle with the mass case applied.
+    pub vehicle: Vehicle,
+    /// Speeds of the sweep (m/s).
+    pub speeds_mps: Vec<f64>,
+    /// Flight-path angle (rad).
+    pub climb_rad: f64,
+    /// The schedule.
+    pub schedule: Schedule,
+}
+
+impl Scenario {
+    /// Output folder: the file's `output_dir`, else `out/<name>`.
+    pub fn output_dir(&self) -> PathBuf {
+        match &self.file.output_dir {
+            Some(d) => PathBuf::from(d),
+            None => PathBuf::from("out").join(&self.file.name),
+        }
+    }
+}
+
+/// Read, parse and validate a scenario file and the vehicle it names.
+pub fn load_scenario(path: &Path) -> Result<Scenario, InputError> {
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        InputError::file(
+            path,
+            format!("cannot read scenario file: {e}"),
+            "check the path; demo scenarios are in scenarios/",
+        )
+    })?;
+    let file: ScenarioFile =
+        toml::from_str(&text).map_err(|e| InputError::from_toml(path, &text, &e))?;
+    let dir = path.parent().unwrap_or(Path::new("."));
+    let vehicle_path = dir.join(&file.vehicle);
+    let base = load_vehicle(&vehicle_path)?;
+    build(file, path, vehicle_path, base).map_err(|inv| InputError::from_invalid(path, &text, inv))
+}
+
+fn finite(path: KeyPath, v: f64) -> Result<f64, Invalid> {
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(Invalid::new(path, format!("{v} is not a finite number"), "write a plain decimal number"))
+    }
+}
+
+/// Validate a schedule table for a vehicle.
+pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Schedule, Invalid> {
+    if s.mode == ScheduleMode::Free {
+        if !s.speed_mps.is_empty() || !s.value_deg.is_empty() {
+            return Err(Invalid::new(
+                p.key("mode"),
+                "a table is given but mode is free",
+                "set mode = \"tilt\" (or \"pitch\" for a vehicle without tilt actuator), or remove the table",
+            ));
+        }
+        return Ok(Schedule::Free);
+    }
+    if s.mode == ScheduleMode::Tilt && !v.has_tilt() {
+        return Err(Invalid::new(
+            p.key("mode"),
+            format!("vehicle '{}' has no tilt actuator", v.name),
+            "use mode = \"pitch\" for a tail-sitter, or \"free\"",
+        ));
+    }
+    if s.speed_mps.len() < 2 || s.speed_mps.len() != s.value_deg.len() {
+        return Err(Invalid::new(
+            p.key("speed_mps"),
+            format!(
+                "the table needs at least two points and equal lengths (speed_mps has {}, value_deg has {})",
+                s.speed_mps.len(),
+                s.value_deg.len()
+            ),
+            "give speed_mps = [..] and value_deg = [..] of the same length",
+        ));
+    }
+    for (i, w) in s.speed_mps.windows(2).enumerate() {
+        finite(p.key("speed_mps"), w[0])?;
+        finite(p.key("speed_mps"), w[1])?;
+        if w[1] <= w[0] {
+            return Err(Invalid::new(
+                p.key("speed_mps"),
+                format!("speeds are not increasing at entry {}", i + 2),
+                "list speeds in increasing order without repeats",
+            ));
+        }
+    }
+    if s.speed_mps[0] < 0.0 {
+        return Err(Invalid::new(p.key("speed_mps"), "negative airspeed in the table", "start at 0 m/s or above"));
+    }
+    let (lo, hi) = match s.mode {
+        ScheduleMode::Tilt => v.actuators.iter().fold((f64::NEG_INFINITY, f64::INFINITY), |(l, h), a| {
+            (l.max(a.min_rad.to_degrees()), h.min(a.max_rad.to_degrees()))
+        }),
+        _ => (-30.0, 120.0),
+    };
+    for &y in &s.value_deg {
+        let y = finite(p.key("value_deg"), y)?;
+        if y < lo - 1e-9 || y > hi + 1e-9 {
+            return Err(Invalid::new(
+                p.key("value_deg"),
+                format!("value {y} deg lies outside {lo:.1}..{hi:.1} deg"),
+                "keep the schedule inside the actuator range (tilt) or -30..120 deg (pitch)",
+            ));
+        }
+    }
+    let table = Table {
+        speed_mps: s.speed_mps.clone(),
+        value_rad: s.value_deg.iter().map(|d| d.to_radians()).collect(),
+    };
+    Ok(match s.mode {
+        ScheduleMode::Tilt => Schedule::Tilt(table),
+        _ => Schedule::Pitch(table),
+    })
+}
+
+fn build(file: ScenarioFile, path: &Path, vehicle_path: PathBuf, base: Vehicle) -> Result<Scenario, Invalid> {
+    let root = KeyPath::root();
+    let ap = root.key("atmosphere");
+    let alt = finite(ap.key("altitude_m"), file.atmosphere.altitude_m)?;
+    let dt = finite(ap.key("temperature_offset_k"), file.atmosphere.temperature_offset_k)?;
+    if let Err(e) = crate::atmosphere::isa(alt, dt) {
+        return Err(Invalid::new(ap.key("altitude_m"), e.to_string(), "use an altitude within the troposphere (-500..11000 m)"));
+    }
+    let mp = root.key("mass_case");
+    if let Some(m) = file.mass_case.mass_kg {
+        if !(m.is_finite() && m > 0.0) {
+            return Err(Invalid::new(mp.key("mass_kg"), format!("mass must be positive, got {m}"), "give the mass in kg or remove the key"));
+        }
+    }
+    let shift = Point {
+        x_m: finite(mp.key("cg_shift_x_m"), file.mass_case.cg_shift_x_m)?,
+        z_m: finite(mp.key("cg_shift_z_m"), file.mass_case.cg_shift_z_m)?,
+    };
+    let vehicle = base.with_mass_case(file.mass_case.mass_kg, shift);
+
+    let sp = root.key("sweep");
+    let from = finite(sp.key("from_mps"), file.sweep.from_mps)?;
+    let to = finite(sp.key("to_mps"), file.sweep.to_mps)?;
+    let step = finite(sp.key("step_mps"), file.sweep.step_mps)?;
+    if from < 0.0 {
+        return Err(Invalid::new(sp.key("from_mps"), "negative airspeed", "start the sweep at 0 m/s (hover) or above"));
+    }
+    if to < from {
+        return Err(Invalid::new(sp.key("to_mps"), format!("to_mps = {to} is below from_mps = {from}"), "swap the values"));
+    }
+    if step <= 0.0 {
+        return Err(Invalid::new(sp.key("step_mps"), "step must be positive", "give a step such as 1.0 m/s"));
+    }
+    let n = ((to - from) / step + 1e-9).floor() as usize + 1;
+    if n > 100_000 {
+        return Err(Invalid::new(sp.key("step_mps"), format!("the sweep would have {n} points"), "use a larger step (at most 100000 points)"));
+    }
+    let mut speeds: Vec<f64> = (0..n).map(|i| from + i as f64 * step).collect();
+    if (to - speeds[n - 1]).abs() > 1e-9 * to.abs().max(1.0) {
+        speeds.push(to);
+    }
+    let climb = finite(sp.key("climb_deg"), file.sweep.climb_deg)?;
+    if climb.abs() > 60.0 {
+        return Err(Invalid::new(sp.key("climb_deg"), "flight-path angle beyond 60 deg", "give climb_deg within -60..60"));
+    }
+    let schedule = build_schedule(&file.schedule, &vehicle, &root.key("schedule"))?;
+
+    let th = &file.thresholds;
+    let tp = root.key("thresholds");
+    for (k, v) in [
+        ("stall_margin_deg", th.stall_margin_deg),
+        ("thrust_margin", th.thrust_margin),
+        ("power_margin", th.power_margin),
+        ("pitch_accel_rad_s2", th.pitch_accel_rad_s2),
+        ("elevator_margin_deg", th.elevator_margin_deg),
+        ("static_margin_pct", th.static_margin_pct),
+        ("time_to_double_s", th.time_to_double_s),
+        ("gain_margin_db", th.gain_margin_db),
+        ("phase_margin_deg", th.phase_margin_deg),
+    ] {
+        finite(tp.key(k), v)?;
+    }
+    let tr = &file.transition;
+    let trp = root.key("transition");
+    for (k, v) in [
+        ("acceleration_mps2", tr.acceleration_mps2),
+        ("deceleration_mps2", tr.deceleration_mps2),
+        ("smoothness_deg_per_mps2", tr.smoothness_deg_per_mps2),
+    ] {
+        let v = finite(trp.key(k), v)?;
+        if v <= 0.0 {
+            return Err(Invalid::new(trp.key(k), "must be positive", "give a positive value"));
+        }
+    }
+    Ok(Scenario {
+        file,
+        path: path.to_path_buf(),
+        vehicle_path,
+        vehicle,
+        speeds_mps: speeds,
+        climb_rad: climb.to_radians(),
+        schedule,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn table_interpolates_and_clamps() {
+        let t = Table {
+            speed_mps: vec![0.0, 10.0, 20.0],
+            value_rad: vec![1.0, 0.5, 0.0],
+        };
+        assert_eq!(t.at(-1.0), 1.0);
+        assert!((t.at(5.0) - 0.75).abs() < 1e-12);
+        assert!((t.at(15.0) - 0.25).abs() < 1e-12);
+        assert_eq!(t.at(30.0), 0.0);
+    }
+}

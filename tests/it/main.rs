@@ -1,0 +1,6 @@
+//! One integration-test crate: every check against the outside world lives in a module here,
+//! so the suite builds and links once.
+
+mod aero_checks;
+mod atmosphere_checks;
+mod rotor_checks;
