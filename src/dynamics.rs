@@ -298,6 +298,30 @@ pub fn evaluate(
     wind: Wind,
     out: &mut Evaluation,
 ) {
+    evaluate_with(v, atm, state, controls, wind, true, out);
+}
+
+/// As [`evaluate`] in still air with the alpha-dot terms of the derivative model left out:
+/// the quasi-static loads that define static stability.
+pub fn evaluate_quasi_static(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    state: &State,
+    controls: &Controls,
+    out: &mut Evaluation,
+) {
+    evaluate_with(v, atm, state, controls, Wind::default(), false, out);
+}
+
+fn evaluate_with(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    state: &State,
+    controls: &Controls,
+    wind: Wind,
+    alpha_dot_terms: bool,
+    out: &mut Evaluation,
+) {
     let rho = atm.density_kg_m3;
     let (st, ct) = state.theta_rad.sin_cos();
     // Air-relative velocity of the CG in body axes.
@@ -464,7 +488,7 @@ pub fn evaluate(
         let ma = qs * d.chord_m * d.cm_alphadot * chat + dz * xa - dx * za;
         let au = u_dot + x0 / m;
         let aw = w_dot + z0 / m;
-        let alpha_dot = if speed2 > 1e-12 {
+        let alpha_dot = if alpha_dot_terms && speed2 > 1e-12 {
             let num = (ul * aw - wl * au) / speed2;
             let den = 1.0 - (ul * za - wl * xa) / (m * speed2);
             num / den

@@ -25,13 +25,13 @@
 //!
 //! # Vortex-ring and turbulent-wake states
 //! For `-2 < x < 0` momentum theory has no valid axial solution. There we use the empirical fit
-//! of Leishman (2006, ch. 2) to measured induced velocity,
+//! of Leishman (2006, ch. 2; coefficients from memory) to measured induced velocity,
 //! `f(x) = kappa + k1 x + k2 x^2 + k3 x^3 + k4 x^4` with kappa = 1.15, k1 = -1.125, k2 = -1.372,
 //! k3 = -1.718, k4 = -0.655. The fit passes through `kappa` at hover because the induced velocity
 //! it was fitted to was inferred from measured power and so carries the induced power factor; the
 //! ideal ratio used here is therefore `f(x)/kappa`, and the power models below apply their own
 //! losses. At `x = -2` that gives 1.0226 instead of the windmill-brake value 1, so a linear
-//! correction `-(f(-2)/kappa - 1)(-x/2)` (zero at hover, 0.0226 at `x = -2`) ties the two ends:
+//! correction `-(f(-2)/kappa - 1)(-x/2)` (zero at hover, -0.0226 at `x = -2`) ties the two ends:
 //!
 //! ```text
 //! w_E(x) = climb formula           x >= 0
@@ -46,7 +46,8 @@
 //! The result is `w = w_G + e (w_E - w_G)` with `w_G` the Glauert root above and the weight
 //! `e(x, y) = c(y) b(x, y)`:
 //! - `c(y) = 1` for `y <= 0.7`, falling with a cubic smoothstep to 0 at `y = 1`: the vortex ring
-//!   is swept away once the in-plane speed reaches about `v_h` (Johnson, NASA/TP-2005-213477).
+//!   is swept away once the in-plane speed reaches about `v_h` (Johnson, NASA/TP-2005-213477;
+//!   value from memory).
 //!   The lower end 0.7 lies above the fold's cusp (0.620), so `w_G` only ever enters where it is
 //!   continuous.
 //! - `b(x, y) = 1` for `-2 <= x <= -y`, falling with a smoothstep to 0 over `-y < x < 0` and over
@@ -56,7 +57,7 @@
 //! So `w` is continuous in `(x, y)` everywhere; its slope is infinite at `(x, y) = (-2, 0)`, as
 //! the windmill-brake formula's is. The smallest root is found by a safeguarded Newton iteration
 //! on the quartic inside a bracket on which it is increasing (its turning points have the closed
-//! form `w = (-3x -+ sqrt(x^2 - 8 y^2))/4`), with no allocation and typically 2 to 6 steps.
+//! form `w = (-3x -+ sqrt(x^2 - 8 y^2))/4`), with no allocation and typically 4 to 9 steps.
 //!
 //! # Power
 //! Ideal power `P_ideal = T (V_n + v_i)`; it is negative in the windmill-brake state, where the
@@ -90,10 +91,11 @@ use thiserror::Error;
 
 /// Induced power factor built into the empirical vortex-ring fit (Leishman 2006, ch. 2).
 const VRS_FIT_KAPPA: f64 = 1.15;
-/// Fit coefficients kappa, k1..k4 of `v_i/v_h` against `V_n/v_h` (Leishman 2006, ch. 2).
+/// Fit coefficients kappa, k1..k4 of `v_i/v_h` against `V_n/v_h` (Leishman 2006, ch. 2; from
+/// memory, not confirmed against the book).
 const VRS_FIT: [f64; 5] = [VRS_FIT_KAPPA, -1.125, -1.372, -1.718, -0.655];
 /// In-plane speed ratio `V_t/v_h` up to which the empirical axial model is used alone.
-const VRS_BLEND_Y_LO: f64 = 0.3;
+const VRS_BLEND_Y_LO: f64 = 0.7;
 /// In-plane speed ratio `V_t/v_h` from which the Glauert solution is used alone.
 const VRS_BLEND_Y_HI: f64 = 1.0;
 /// Width of the tapers at the ends of the axial vortex-ring band, per unit of `V_t/v_h`.
@@ -102,9 +104,9 @@ const VRS_TAPER_PER_Y: f64 = 1.0;
 const HIGH_SPEED_RATIO: f64 = 1e7;
 /// Relative step at which the Newton solve stops.
 const NEWTON_RTOL: f64 = 1e-14;
-/// Iteration guard of the Newton solve (typical count is 2 to 6).
+/// Iteration guard of the Newton solve (typical count is 4 to 9).
 const NEWTON_MAX_ITER: u32 = 100;
-/// Iteration guard of the thrust-available root find (typical count is 5 to 15).
+/// Iteration guard of the thrust-available root find (typical count is 2 to 9).
 const THRUST_MAX_ITER: u32 = 200;
 /// Relative power tolerance at which the thrust-available root find stops.
 const THRUST_POWER_RTOL: f64 = 1e-13;
@@ -277,8 +279,8 @@ pub fn thrust_available(
 }
 
 /// As [`thrust_available`], also saying which limit is active. The cap applies when shaft power
-/// at the cap does not exceed the power available; otherwise a guarded root find (Illinois
-/// regula falsi with bisection fallback) returns the thrust whose shaft power equals the power
+/// at the cap does not exceed the power available; otherwise a guarded root find (regula
+/// falsi with Anderson-Bjorck scaling and bisection fallback, no allocation) returns the thrust whose shaft power equals the power
 /// available (relative 1e-13). Shaft power rises monotonically with thrust at fixed inflow,
 /// except where it is zero (windmill-brake state), so that thrust is unique; with zero power
 /// available it is the largest thrust that needs none. A cap that is zero, negative or NaN gives
@@ -292,7 +294,7 @@ pub fn thrust_available_with_limit(
     v_inplane_mps: f64,
     power: PowerModel,
 ) -> (f64, ThrustLimit) {
-    if !(thrust_cap_n > 0.0) {
+    if thrust_cap_n.is_nan() || thrust_cap_n <= 0.0 {
         return (0.0, ThrustLimit::Cap);
     }
     if !is_rotor(density_kg_m3, disk_area_m2)
@@ -707,7 +709,8 @@ mod tests {
                 let w = glauert_ratio(x, y).0;
                 if (w - prev).abs() > 0.05 {
                     // Cusp at x = -1.7548, y = 0.6204; the slope is unbounded next to it.
-                    assert!(y < 0.63 && y < VRS_BLEND_Y_LO, "jump at x {x} y {y}");
+                    assert!(y < 0.63, "jump at x {x} y {y}");
+                    assert!(y < VRS_BLEND_Y_LO, "jump at x {x} y {y}");
                     assert!(x > -2.0 && x < -1.74, "jump at x {x} y {y}");
                 }
                 prev = w;

@@ -370,13 +370,57 @@ fn solve_normal(jac: &[[f64; MAX_UNKNOWNS]; 3], n: usize, m: usize, lambda: f64,
     a.lu().solve(&rhs).map(|y| [y[0], y[1], y[2]])
 }
 
-/// Restore feasibility from z (in place). Returns (converged, iterations).
-fn restore(p: &mut Problem, z: &mut [f64], free: &mut [bool], max_iter: usize) -> (bool, usize, Point3) {
+/// Minimum-norm Gauss-Newton step on an active set: unknowns sitting on a bound whose step
+/// would push them outward are held, and the step is recomputed without them.
+fn active_set_step(
+    p: &Problem,
+    z: &[f64],
+    jac: &[[f64; MAX_UNKNOWNS]; 3],
+    r: &[f64; 3],
+    lambda: f64,
+    dz: &mut [f64; MAX_UNKNOWNS],
+) -> bool {
+    let n = p.n();
+    let m = p.m();
+    let mut free = [true; MAX_UNKNOWNS];
+    let mut jf = *jac;
+    for _ in 0..=n {
+        let neg = [-r[0], -r[1], -r[2]];
+        let Some(y) = solve_normal(&jf, n, m, lambda, neg) else {
+            return false;
+        };
+        let mut changed = false;
+        for j in 0..n {
+            dz[j] = if free[j] {
+                (0..m).map(|i| jf[i][j] * y[i]).sum()
+            } else {
+                0.0
+            };
+            let at_lo = z[j] <= p.lo[j] + 1e-12 && dz[j] < 0.0;
+            let at_hi = z[j] >= p.hi[j] - 1e-12 && dz[j] > 0.0;
+            if free[j] && (at_lo || at_hi) {
+                free[j] = false;
+                for row in jf.iter_mut() {
+                    row[j] = 0.0;
+                }
+                changed = true;
+            }
+        }
+        if !changed {
+            return true;
+        }
+    }
+    true
+}
+
+/// Restore feasibility from z (in place). Returns (converged, iterations, last point).
+fn restore(p: &mut Problem, z: &mut [f64], max_iter: usize) -> (bool, usize, Point3) {
     let n = p.n();
     let m = p.m();
     let mut f = p.eval(z);
     let mut jac = [[0.0; MAX_UNKNOWNS]; 3];
     let mut grad = [0.0; MAX_UNKNOWNS];
+    let all = [true; MAX_UNKNOWNS];
     let mut lambda = 1e-12;
     let mut it = 0;
     while it < max_iter {
@@ -385,30 +429,25 @@ fn restore(p: &mut Problem, z: &mut [f64], free: &mut [bool], max_iter: usize) -
             return (true, it, f);
         }
         it += 1;
-        jacobian(p, z, &f, free, &mut jac, &mut grad);
-        let neg = [-f.r[0], -f.r[1], -f.r[2]];
-        let Some(y) = solve_normal(&jac, n, m, lambda, neg) else {
+        jacobian(p, z, &f, &all[..n], &mut jac, &mut grad);
+        let mut dz = [0.0; MAX_UNKNOWNS];
+        if !active_set_step(p, z, &jac, &f.r, lambda, &mut dz) {
             lambda = (lambda * 100.0).max(1e-8);
             continue;
-        };
-        let mut dz = [0.0; MAX_UNKNOWNS];
-        for j in 0..n {
-            if free[j] {
-                dz[j] = (0..m).map(|i| jac[i][j] * y[i]).sum();
-            }
         }
         // Trust region in scaled units.
         let big = dz[..n].iter().fold(0.0f64, |a, b| a.max(b.abs()));
-        let cap = 0.5;
+        let cap = 0.3;
         let mut t = if big > cap { cap / big } else { 1.0 };
         let mut accepted = false;
         let mut trial = [0.0; MAX_UNKNOWNS];
-        for _ in 0..12 {
+        for _ in 0..10 {
             for j in 0..n {
                 trial[j] = (z[j] + t * dz[j]).clamp(p.lo[j], p.hi[j]);
             }
             let ft = p.eval(&trial[..n]);
-            if norm_inf(&ft.r, m) < res * (1.0 - 1e-4 * t) || norm_inf(&ft.r, m) < RESIDUAL_TOL {
+            let rt = norm_inf(&ft.r, m);
+            if rt < res * (1.0 - 1e-4 * t) || rt < RESIDUAL_TOL {
                 z[..n].copy_from_slice(&trial[..n]);
                 f = ft;
                 accepted = true;
@@ -416,20 +455,12 @@ fn restore(p: &mut Problem, z: &mut [f64], free: &mut [bool], max_iter: usize) -
             }
             t *= 0.5;
         }
-        if !accepted {
-            lambda = (lambda * 100.0).max(1e-6);
-            if lambda > 1e6 {
-                break;
-            }
-        } else {
+        if accepted {
             lambda = (lambda * 0.1).max(1e-12);
-        }
-        // Unknowns that sit on a bound and are pushed outward leave the free set.
-        for j in 0..n {
-            let at_lo = z[j] <= p.lo[j] + 1e-12 && dz[j] < 0.0;
-            let at_hi = z[j] >= p.hi[j] - 1e-12 && dz[j] > 0.0;
-            if at_lo || at_hi {
-                free[j] = false;
+        } else {
+            lambda = (lambda * 100.0).max(1e-6);
+            if lambda > 1e4 {
+                break;
             }
         }
     }
@@ -489,8 +520,7 @@ fn optimise_gradient(p: &mut Problem, z: &mut [f64], f: &mut Point3, max_outer: 
             for j in 0..n {
                 trial[j] = (z[j] + step * d[j] / dn).clamp(p.lo[j], p.hi[j]);
             }
-            let mut tf = free;
-            let (ok, _, ft) = restore(p, &mut trial[..n], &mut tf[..n], 8);
+            let (ok, _, ft) = restore(p, &mut trial[..n], 8);
             if ok && ft.objective < f.objective - 1e-12 {
                 z[..n].copy_from_slice(&trial[..n]);
                 *f = ft;
@@ -552,8 +582,7 @@ fn optimise_nelder_mead(p: &mut Problem, z: &mut [f64], f: &mut Point3) -> usize
             for j in 0..n {
                 z[j] = z[j].clamp(p.lo[j], p.hi[j]);
             }
-            let mut free = vec![true; n];
-            let (ok, _, f) = restore(&mut p, &mut z, &mut free, 10);
+            let (ok, _, f) = restore(&mut p, &mut z, 10);
             Ok(if ok { f.objective } else { 1e3 + norm_inf(&f.r, p.m()) })
         }
     }
@@ -592,8 +621,7 @@ fn optimise_nelder_mead(p: &mut Problem, z: &mut [f64], f: &mut Point3) -> usize
     for j in 0..n {
         zn[j] = zn[j].clamp(p.lo[j], p.hi[j]);
     }
-    let mut fr = vec![true; n];
-    let (ok, _, fnew) = restore(p, &mut zn, &mut fr, 10);
+    let (ok, _, fnew) = restore(p, &mut zn, 10);
     if ok && fnew.objective < f.objective {
         z[..n].copy_from_slice(&zn);
         *f = fnew;
@@ -690,16 +718,18 @@ pub fn trim(
         starts.push(w.clone());
     }
     let cold = cold_guesses(v, req);
-    let mut best: Option<(Vec<f64>, Point3, Vec<bool>)> = None;
+    let mut best: Option<(Vec<f64>, Point3, Vec<Option<f64>>)> = None;
     let mut p = Problem::new(v, atm, req);
-    let n = p.n();
     let mut iterations = 0;
     let mut power_caps: Vec<Option<f64>> = vec![None; v.rotors.len()];
     let mut tried_cold = false;
     let mut k = 0;
     loop {
         if k >= starts.len() {
-            if tried_cold || (!explore && best.is_some()) {
+            let have_solution = best
+                .as_ref()
+                .is_some_and(|(_, b, _)| norm_inf(&b.r, b.m) < RESIDUAL_TOL);
+            if tried_cold || (!explore && have_solution) {
                 break;
             }
             starts.extend(cold.iter().cloned());
@@ -710,6 +740,8 @@ pub fn trim(
         }
         let g = starts[k].clone();
         k += 1;
+        // Power-derived thrust bounds belong to one start's solution branch.
+        power_caps.iter_mut().for_each(|c| *c = None);
         for pass in 0..3 {
             // Apply power-derived thrust caps.
             for (i, kind) in p.kinds.iter().enumerate() {
@@ -718,12 +750,11 @@ pub fn trim(
                 }
             }
             let mut z = to_scaled(&p, &g);
-            let mut free = vec![true; n];
-            let (ok, it, mut f) = restore(&mut p, &mut z, &mut free, 40);
+            let (ok, it, mut f) = restore(&mut p, &mut z, 40);
             iterations += it;
             if !ok {
                 if best.as_ref().is_none_or(|b| norm_inf(&b.1.r, b.1.m) > RESIDUAL_TOL && norm_inf(&f.r, f.m) < norm_inf(&b.1.r, b.1.m)) {
-                    best = Some((z, f, free));
+                    best = Some((z, f, power_caps.clone()));
                 }
                 break;
             }
@@ -765,14 +796,14 @@ pub fn trim(
                 }
             };
             if better && feasible_power {
-                best = Some((z, f, free));
+                best = Some((z, f, power_caps.clone()));
             } else if best.is_none() {
-                best = Some((z, f, free));
+                best = Some((z, f, power_caps.clone()));
             }
             break;
         }
     }
-    let (z, f, free) = best.expect("at least one start is always tried");
+    let (z, f, caps) = best.expect("at least one start is always tried");
     let state = p.apply(&z);
     let controls = p.controls.clone();
     p.eval(&z);
@@ -784,12 +815,12 @@ pub fn trim(
         if !(at_lo || at_hi) {
             continue;
         }
-        active.push(limit_name(v, *kind, at_hi, power_caps.clone()));
+        active.push(limit_name(v, *kind, at_hi, &caps));
     }
     let reasons = if converged {
         Vec::new()
     } else {
-        untrimmable_reasons(v, &p, &f, &active, &free)
+        untrimmable_reasons(v, &p, &f, &active)
     };
     let d = p.eval.state_dot;
     let (s, c) = state.theta_rad.sin_cos();
@@ -829,7 +860,7 @@ fn power_ok(v: &Vehicle, e: &Evaluation) -> bool {
         .all(|(r, l)| l.performance.shaft_power_w <= r.power_max_w * (1.0 + 1e-6))
 }
 
-fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: Vec<Option<f64>>) -> String {
+fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: &[Option<f64>]) -> String {
     match kind {
         UnknownKind::Pitch => format!("pitch attitude at its {} search bound", if at_hi { "upper" } else { "lower" }),
         UnknownKind::Thrust(g) => {
@@ -865,7 +896,7 @@ fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: Vec<Option<f64>
     }
 }
 
-fn untrimmable_reasons(v: &Vehicle, p: &Problem, f: &Point3, active: &[String], _free: &[bool]) -> Vec<String> {
+fn untrimmable_reasons(v: &Vehicle, p: &Problem, f: &Point3, active: &[String]) -> Vec<String> {
     let mut out = Vec::new();
     let labels: &[&str] = match p.req.condition {
         Condition::Steady => &["force along x", "force along z", "pitching moment"],

@@ -178,7 +178,7 @@ pub enum PolarFile {
         cd_max: Option<f64>,
         /// Lift scale in reversed flow (default 0.7, common practice).
         reverse_lift_factor: Option<f64>,
-        /// Width of the stall blend (deg, default 4).
+        /// Width of the stall blend (deg, default 8).
         stall_blend_deg: Option<f64>,
     },
     /// A CSV beside the vehicle file.
@@ -923,16 +923,16 @@ fn build_polar(
                 blend_width_rad: c
                     .range(
                         "stall_blend_deg",
-                        stall_blend_deg.unwrap_or(4.0),
+                        stall_blend_deg.unwrap_or(8.0),
                         0.5,
                         20.0,
-                        "width of the stall transition in degrees, 2..8",
+                        "width of the stall transition in degrees, 4..12",
                     )?
                     .to_radians(),
             };
             ParametricPolar::new(spec)
                 .map(Polar::Parametric)
-                .map_err(|e| bad(p.clone(), e.to_string(), "adjust the polar parameters"))
+                .map_err(|e| bad(p.clone(), e.to_string(), ""))
         }
         PolarFile::Table { file } => {
             let csv_path = dir.join(file);

@@ -6,6 +6,7 @@
 //! body frame of DESIGN.md: x forward, z down, metres, from the vehicle's own datum.
 
 pub mod file;
+pub mod summary;
 
 use crate::aero::Polar;
 use crate::rotor::PowerModel;

@@ -1,0 +1,89 @@
+//! Command-line arguments (clap) and the dispatch to one file per command.
+
+mod check;
+mod sweep;
+mod trim;
+
+use std::path::PathBuf;
+
+use clap::{Parser, Subcommand};
+
+use hoverline::input::InputError;
+use hoverline::output::files::WriteError;
+
+const ABOUT: &str = "Transition-phase trim and stability analysis for VTOL airframes.\n\n\
+CAUTION: a preliminary design aid built on quasi-steady, simplified models. It is not a flight \
+clearance. Defer to the applicable airworthiness authority, local aviation rules and licensed \
+flight-test practice.";
+
+/// hoverline command line.
+#[derive(Debug, Parser)]
+#[command(name = "hoverline", version, about = ABOUT, long_about = ABOUT)]
+pub struct Args {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// First look at a vehicle: weights, loadings, hover power, surfaces, stall speed, static margin, warnings
+    Check(check::CheckArgs),
+    /// Trim one point in full detail: attitude, controls, margins, modes
+    Trim(trim::TrimArgs),
+    /// Trim a scenario's whole speed sweep; write trim.csv, sweep.json and plots
+    Sweep(sweep::SweepArgs),
+}
+
+/// What can go wrong in a command.
+#[derive(Debug, thiserror::Error)]
+pub enum CliError {
+    /// A user file is wrong (exit 2).
+    #[error("{0}")]
+    Input(#[from] InputError),
+    /// Bad usage (exit 2).
+    #[error("{0}")]
+    Usage(String),
+    /// Results could not be written (exit 1).
+    #[error("{0}")]
+    Write(#[from] WriteError),
+    /// The analysis could not be completed (exit 1).
+    #[error("{0}")]
+    Analysis(String),
+}
+
+impl CliError {
+    /// Exit status for this error.
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            CliError::Input(_) | CliError::Usage(_) => 2,
+            CliError::Write(_) | CliError::Analysis(_) => 1,
+        }
+    }
+}
+
+/// Run the parsed command.
+pub fn run(args: Args) -> Result<(), CliError> {
+    match args.command {
+        Command::Check(a) => check::run(a),
+        Command::Trim(a) => trim::run(a),
+        Command::Sweep(a) => sweep::run(a),
+    }
+}
+
+/// Print JSON to stdout.
+fn print_json<T: serde::Serialize>(v: &T) -> Result<(), CliError> {
+    let s = serde_json::to_string_pretty(v).map_err(|e| CliError::Analysis(e.to_string()))?;
+    println!("{s}");
+    Ok(())
+}
+
+/// An atmosphere from flags, with the flag named in errors.
+fn atmosphere(altitude_m: f64, offset_k: f64) -> Result<hoverline::atmosphere::Atmosphere, CliError> {
+    hoverline::atmosphere::isa(altitude_m, offset_k)
+        .map_err(|e| CliError::Usage(format!("--altitude-m / --temperature-offset-k: {e}")))
+}
+
+#[allow(dead_code)]
+fn out_dir(given: Option<PathBuf>, default: PathBuf) -> PathBuf {
+    given.unwrap_or(default)
+}

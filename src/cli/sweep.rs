@@ -1,0 +1,50 @@
+//! `hoverline sweep SCENARIO`
+
+use std::path::PathBuf;
+
+use clap::Args;
+
+use super::CliError;
+use hoverline::output::text;
+use hoverline::scenario::load_scenario;
+use hoverline::sweep::{run_sweep, SweepSettings};
+use hoverline::trim::Objective;
+
+/// Arguments of `sweep`.
+#[derive(Debug, Args)]
+pub struct SweepArgs {
+    /// Scenario file (TOML)
+    scenario: PathBuf,
+    /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+}
+
+/// Run `sweep`.
+pub fn run(a: SweepArgs) -> Result<(), CliError> {
+    let sc = load_scenario(&a.scenario)?;
+    let atm = hoverline::atmosphere::isa(sc.file.atmosphere.altitude_m, sc.file.atmosphere.temperature_offset_k)
+        .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let settings = SweepSettings {
+        speeds_mps: sc.speeds_mps.clone(),
+        climb_rad: sc.climb_rad,
+        schedule: sc.schedule.clone(),
+        objective: Objective::Power,
+        thresholds: sc.file.thresholds.clone(),
+    };
+    let bar = indicatif::ProgressBar::new(settings.speeds_mps.len() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} speeds")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar.set_prefix("trimming");
+    let result = run_sweep(&sc.vehicle, &atm, &settings, &|| bar.inc(1));
+    bar.finish_and_clear();
+    print!("{}", text::sweep(&sc.file.name, &result));
+    let dir = a.out.unwrap_or_else(|| sc.output_dir());
+    let files = hoverline::output::sweep_files::write(&dir, &sc, &result)?;
+    for f in files {
+        println!("wrote {}", f.display());
+    }
+    Ok(())
+}

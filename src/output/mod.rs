@@ -1,0 +1,12 @@
+//! Everything that leaves the program: files written whole or not at all, CSV tables, JSON,
+//! text tables for the terminal, plots and the HTML report. This is the only library module
+//! that touches the file system for writing.
+
+pub mod files;
+pub mod text;
+
+/// The caution every report carries.
+pub const CAUTION: &str = "Preliminary design aid from quasi-steady, simplified models: not a flight clearance. \
+Defer to the applicable airworthiness authority, local aviation rules and licensed flight-test practice.";
+pub mod plots;
+pub mod sweep_files;

@@ -1,0 +1,605 @@
+//! The speed sweep: trim, linearise and assess every airspeed from hover to cruise, then
+//! collect the unsafe bands and each surface's stall exposure.
+//!
+//! Points are solved in fixed chunks of consecutive speeds; inside a chunk each point starts
+//! from its neighbour's solution (warm start), and the first point of a chunk tries every cold
+//! start and keeps the best branch. The chunking does not depend on the number of threads, so
+//! results are the same on every machine; chunks run in parallel with rayon.
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use crate::atmosphere::Atmosphere;
+use crate::dynamics::STATE_NAMES;
+use crate::linear::{linearise, modes, Mode};
+use crate::margins::{margins, Margins, WINGBORNE_LIFT_SHARE};
+use crate::scenario::{Schedule, Thresholds};
+use crate::trim::{trim, Condition, Objective, TiltSetting, TrimGuess, TrimRequest, TrimSolution};
+use crate::vehicle::Vehicle;
+
+/// Consecutive speeds solved with warm starts by one task.
+pub const CHUNK: usize = 16;
+
+/// Inputs of a sweep that are not the vehicle.
+#[derive(Debug, Clone)]
+pub struct SweepSettings {
+    /// Airspeeds (m/s).
+    pub speeds_mps: Vec<f64>,
+    /// Flight-path angle (rad).
+    pub climb_rad: f64,
+    /// Schedule of the transition variable.
+    pub schedule: Schedule,
+    /// Trim objective.
+    pub objective: Objective,
+    /// Thresholds for unsafe points.
+    pub thresholds: Thresholds,
+}
+
+/// Residual of a point.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Residual {
+    /// Force along body x (N).
+    pub x_n: f64,
+    /// Force along body z (N).
+    pub z_n: f64,
+    /// Pitching moment (N m).
+    pub m_nm: f64,
+}
+
+/// One control input at a point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ActuatorValue {
+    /// Name.
+    pub name: String,
+    /// thrust, elevator or tilt.
+    pub kind: String,
+    /// Value in `unit`.
+    pub value: f64,
+    /// N (whole group) or deg.
+    pub unit: String,
+    /// Lower limit.
+    pub min: f64,
+    /// Upper limit (thrust: available at this inflow).
+    pub max: f64,
+}
+
+/// A rotor group at a point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RotorValue {
+    /// Name.
+    pub name: String,
+    /// Rotors in the group.
+    pub count: u32,
+    /// Thrust of the whole group (N).
+    pub thrust_n: f64,
+    /// Thrust axis above body x (deg).
+    pub axis_deg: f64,
+    /// Shaft power of the whole group (W).
+    pub power_w: f64,
+    /// (T_available - T) / T_available.
+    pub thrust_margin: f64,
+    /// (P_available - P) / P_available.
+    pub power_margin: f64,
+    /// cap or power.
+    pub limited_by: String,
+    /// Induced velocity (m/s).
+    pub induced_velocity_mps: f64,
+}
+
+/// A surface at a point.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SurfaceValue {
+    /// Name.
+    pub name: String,
+    /// Angle of attack of the clean part (deg).
+    pub alpha_deg: f64,
+    /// Angle of attack of the most critical part (deg).
+    pub critical_alpha_deg: f64,
+    /// Which part is critical.
+    pub critical_part: String,
+    /// Smallest stall margin (deg).
+    pub stall_margin_deg: f64,
+    /// Stall angles (deg).
+    pub stall_pos_deg: f64,
+    /// Negative stall angle (deg).
+    pub stall_neg_deg: f64,
+    /// Lift (N).
+    pub lift_n: f64,
+    /// Drag (N).
+    pub drag_n: f64,
+}
+
+/// Headline margins of a point (JSON `margins`).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MarginValues {
+    /// Smallest stall margin (deg).
+    pub stall_deg: f64,
+    /// Surface it belongs to.
+    pub stall_surface: String,
+    /// Smallest thrust margin (-).
+    pub thrust: f64,
+    /// Smallest power margin (-).
+    pub power: f64,
+    /// Nose-up pitch acceleration available (rad/s^2).
+    pub pitch_accel_up_rad_s2: f64,
+    /// Nose-down pitch acceleration available (rad/s^2).
+    pub pitch_accel_down_rad_s2: f64,
+    /// Elevator travel left (deg).
+    pub elevator_deg: Option<f64>,
+    /// Static margin (% chord) where wingborne.
+    pub static_margin_pct: Option<f64>,
+    /// Share of weight on aerodynamic lift (-).
+    pub lift_share: f64,
+    /// Largest eigenvalue real part (1/s).
+    pub max_real_per_s: f64,
+    /// Time to double of the fastest unstable mode (s).
+    pub time_to_double_s: Option<f64>,
+}
+
+/// One point of a sweep, in the JSON layout other programs rely on.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PointReport {
+    /// Airspeed (m/s).
+    pub speed_mps: f64,
+    /// Flight-path angle (deg).
+    pub climb_deg: f64,
+    /// Altitude (m).
+    pub altitude_m: f64,
+    /// Air density (kg/m^3).
+    pub density_kg_m3: f64,
+    /// Mass (kg).
+    pub mass_kg: f64,
+    /// Weight (N).
+    pub weight_n: f64,
+    /// Whether trim converged.
+    pub trimmed: bool,
+    /// Why the point is unsafe or untrimmable; empty when trimmed and safe.
+    pub reasons: Vec<String>,
+    /// Kinds of the reasons, for grouping into bands.
+    #[serde(skip)]
+    pub reason_kinds: Vec<String>,
+    /// Limits active at the solution.
+    pub active_limits: Vec<String>,
+    /// Pitch attitude (deg).
+    pub pitch_deg: Option<f64>,
+    /// Angle of attack at the CG (deg).
+    pub alpha_deg: Option<f64>,
+    /// Acceleration along the path (m/s^2), zero for steady trim.
+    pub path_accel_mps2: Option<f64>,
+    /// Trim residual.
+    pub residual: Residual,
+    /// Trim iterations.
+    pub iterations: usize,
+    /// Controls.
+    pub actuators: Vec<ActuatorValue>,
+    /// Rotor groups.
+    pub rotors: Vec<RotorValue>,
+    /// Surfaces.
+    pub surfaces: Vec<SurfaceValue>,
+    /// Modes of the linear model.
+    pub modes: Vec<Mode>,
+    /// Headline margins (null when untrimmed).
+    pub margins: Option<MarginValues>,
+    /// Linear-model state names.
+    pub state_names: Vec<String>,
+    /// Linear-model input names.
+    pub input_names: Vec<String>,
+    /// A matrix rows (null when untrimmed).
+    pub a_matrix: Option<Vec<Vec<f64>>>,
+    /// B matrix rows (null when untrimmed).
+    pub b_matrix: Option<Vec<Vec<f64>>>,
+}
+
+/// A contiguous band of speeds sharing a condition.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Band {
+    /// First speed (m/s).
+    pub from_mps: f64,
+    /// Last speed (m/s).
+    pub to_mps: f64,
+    /// Distinct reasons over the band.
+    pub reasons: Vec<String>,
+}
+
+/// Stall exposure of one surface over the sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StallExposure {
+    /// Surface name.
+    pub surface: String,
+    /// Bands where a part of the surface is beyond a stall angle.
+    pub stalled: Vec<Band>,
+    /// Bands where the margin is below the threshold (stalled bands included).
+    pub near_stall: Vec<Band>,
+}
+
+/// A whole sweep.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SweepResult {
+    /// Every point.
+    pub points: Vec<PointReport>,
+    /// Unsafe bands.
+    pub bands: Vec<Band>,
+    /// Stall exposure per surface.
+    pub stall_exposure: Vec<StallExposure>,
+}
+
+/// Transition variable at a speed: tilt for each actuator (rad) and the pitch hint (rad).
+pub fn schedule_at(v: &Vehicle, schedule: &Schedule, speed_mps: f64) -> (TiltSetting, Option<f64>) {
+    match schedule {
+        Schedule::Free => (TiltSetting::Free, None),
+        Schedule::Tilt(t) => (TiltSetting::Fixed(vec![t.at(speed_mps); v.actuators.len()]), None),
+        Schedule::Pitch(t) => (TiltSetting::Free, Some(t.at(speed_mps))),
+    }
+}
+
+/// Trim, linearise and assess one point.
+pub fn solve_point(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    req: &TrimRequest,
+    thresholds: &Thresholds,
+    warm: Option<&TrimGuess>,
+    explore: bool,
+) -> (PointReport, TrimSolution) {
+    let sol = trim(v, atm, req, warm, explore);
+    let report = assess(v, atm, req, &sol, thresholds);
+    (report, sol)
+}
+
+/// Build the report of a solved point: linear model, modes, margins, reasons.
+pub fn assess(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    req: &TrimRequest,
+    sol: &TrimSolution,
+    th: &Thresholds,
+) -> PointReport {
+    let trimmed = sol.trimmed();
+    let mut report = PointReport {
+        speed_mps: req.speed_mps,
+        climb_deg: req.climb_rad.to_degrees(),
+        altitude_m: atm.altitude_m,
+        density_kg_m3: atm.density_kg_m3,
+        mass_kg: v.mass_kg,
+        weight_n: v.weight_n(),
+        trimmed,
+        reasons: Vec::new(),
+        reason_kinds: Vec::new(),
+        active_limits: sol.active_limits.clone(),
+        pitch_deg: None,
+        alpha_deg: None,
+        path_accel_mps2: None,
+        residual: Residual {
+            x_n: sol.residual_x_n,
+            z_n: sol.residual_z_n,
+            m_nm: sol.residual_m_nm,
+        },
+        iterations: sol.iterations,
+        actuators: Vec::new(),
+        rotors: Vec::new(),
+        surfaces: Vec::new(),
+        modes: Vec::new(),
+        margins: None,
+        state_names: STATE_NAMES.iter().map(|s| s.to_string()).collect(),
+        input_names: v.input_names(),
+        a_matrix: None,
+        b_matrix: None,
+    };
+    if !trimmed {
+        for r in &sol.reasons {
+            report.reasons.push(format!("untrimmable: {r}"));
+        }
+        report.reason_kinds.push("untrimmable".into());
+        return report;
+    }
+    let lin = linearise(v, atm, &sol.state, &sol.controls);
+    let e = &sol.evaluation;
+    let share = crate::margins::lift_share(v, &sol.state, e);
+    let ms = modes(&lin.a, req.speed_mps, share >= WINGBORNE_LIFT_SHARE);
+    let m = margins(v, atm, &sol.state, &sol.controls, e, &lin, &ms);
+    report.pitch_deg = Some(sol.state.theta_rad.to_degrees());
+    report.alpha_deg = Some(e.alpha_rad.to_degrees());
+    report.path_accel_mps2 = Some(sol.path_accel_mps2);
+    report.actuators = actuator_values(v, sol, &m);
+    report.rotors = m
+        .rotors
+        .iter()
+        .map(|r| RotorValue {
+            name: r.name.clone(),
+            count: r.count,
+            thrust_n: r.thrust_n,
+            axis_deg: r.axis_deg,
+            power_w: r.power_w,
+            thrust_margin: r.thrust_margin,
+            power_margin: r.power_margin,
+            limited_by: format!("{:?}", r.limited_by).to_lowercase(),
+            induced_velocity_mps: r.induced_velocity_mps,
+        })
+        .collect();
+    report.surfaces = m
+        .surfaces
+        .iter()
+        .map(|s| SurfaceValue {
+            name: s.name.clone(),
+            alpha_deg: s.alpha_deg,
+            critical_alpha_deg: s.critical_alpha_deg,
+            critical_part: s.critical_part.clone(),
+            stall_margin_deg: s.stall_margin_deg,
+            stall_pos_deg: s.stall_pos_deg,
+            stall_neg_deg: s.stall_neg_deg,
+            lift_n: s.lift_n,
+            drag_n: s.drag_n,
+        })
+        .collect();
+    let (reasons, kinds) = unsafe_reasons(&m, th);
+    report.reasons = reasons;
+    report.reason_kinds = kinds;
+    report.margins = Some(MarginValues {
+        stall_deg: m.stall_deg,
+        stall_surface: m.stall_surface.clone(),
+        thrust: m.thrust,
+        power: m.power,
+        pitch_accel_up_rad_s2: m.pitch_accel_up_rad_s2,
+        pitch_accel_down_rad_s2: m.pitch_accel_down_rad_s2,
+        elevator_deg: m.elevator_deg,
+        static_margin_pct: m.static_margin_pct,
+        lift_share: m.lift_share,
+        max_real_per_s: m.max_real_per_s,
+        time_to_double_s: m.time_to_double_s,
+    });
+    report.modes = ms;
+    report.a_matrix = Some(lin.a_rows());
+    report.b_matrix = Some(lin.b_rows());
+    report
+}
+
+fn actuator_values(v: &Vehicle, sol: &TrimSolution, m: &Margins) -> Vec<ActuatorValue> {
+    let mut out = Vec::new();
+    for (g, r) in v.rotors.iter().enumerate() {
+        out.push(ActuatorValue {
+            name: r.name.clone(),
+            kind: "thrust".into(),
+            value: sol.controls.thrust_n[g] * r.count as f64,
+            unit: "N".into(),
+            min: 0.0,
+            max: m.rotors[g].thrust_available_n,
+        });
+    }
+    for (k, e) in v.elevators.iter().enumerate() {
+        out.push(ActuatorValue {
+            name: e.name.clone(),
+            kind: "elevator".into(),
+            value: sol.controls.elevator_rad[k].to_degrees(),
+            unit: "deg".into(),
+            min: e.min_rad.to_degrees(),
+            max: e.max_rad.to_degrees(),
+        });
+    }
+    for (k, a) in v.actuators.iter().enumerate() {
+        out.push(ActuatorValue {
+            name: a.name.clone(),
+            kind: "tilt".into(),
+            value: sol.controls.tilt_rad[k].to_degrees(),
+            unit: "deg".into(),
+            min: a.min_rad.to_degrees(),
+            max: a.max_rad.to_degrees(),
+        });
+    }
+    out
+}
+
+/// Reasons a trimmed point is unsafe against the thresholds, and their kinds.
+pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>) {
+    let mut r = Vec::new();
+    let mut k = Vec::new();
+    for s in &m.surfaces {
+        if s.stall_margin_deg < 0.0 {
+            r.push(format!(
+                "'{}' stalled ({} at alpha {:.1} deg; stall at {:.1} / {:.1} deg)",
+                s.name, s.critical_part, s.critical_alpha_deg, s.stall_pos_deg, s.stall_neg_deg
+            ));
+            k.push(format!("stall of '{}'", s.name));
+        } else if s.stall_margin_deg < th.stall_margin_deg {
+            r.push(format!(
+                "stall margin of '{}' {:.1} deg (threshold {:.1} deg)",
+                s.name, s.stall_margin_deg, th.stall_margin_deg
+            ));
+            k.push(format!("stall margin of '{}'", s.name));
+        }
+    }
+    for g in &m.rotors {
+        if g.thrust_n > 0.0 && g.thrust_margin < th.thrust_margin {
+            r.push(format!(
+                "thrust margin of '{}' {:.0} % (threshold {:.0} %, limited by {:?})",
+                g.name,
+                100.0 * g.thrust_margin,
+                100.0 * th.thrust_margin,
+                g.limited_by
+            ));
+            k.push(format!("thrust margin of '{}'", g.name));
+        }
+        if g.power_margin < th.power_margin {
+            r.push(format!(
+                "power margin of '{}' {:.0} % (threshold {:.0} %)",
+                g.name,
+                100.0 * g.power_margin,
+                100.0 * th.power_margin
+            ));
+            k.push(format!("power margin of '{}'", g.name));
+        }
+        if g.vortex_ring {
+            r.push(format!("rotor group '{}' in the vortex-ring band", g.name));
+            k.push(format!("vortex ring of '{}'", g.name));
+        }
+    }
+    for (dir, val) in [("nose-up", m.pitch_accel_up_rad_s2), ("nose-down", m.pitch_accel_down_rad_s2)] {
+        if val < th.pitch_accel_rad_s2 {
+            r.push(format!(
+                "{dir} pitch authority {val:.2} rad/s^2 (threshold {:.2})",
+                th.pitch_accel_rad_s2
+            ));
+            k.push(format!("{dir} pitch authority"));
+        }
+    }
+    if let Some(e) = m.elevator_deg {
+        if e < th.elevator_margin_deg {
+            r.push(format!(
+                "elevator travel left {e:.1} deg (threshold {:.1} deg)",
+                th.elevator_margin_deg
+            ));
+            k.push("elevator travel".into());
+        }
+    }
+    if let Some(sm) = m.static_margin_pct {
+        if sm < th.static_margin_pct {
+            r.push(format!(
+                "static margin {sm:.1} % chord (threshold {:.1} %)",
+                th.static_margin_pct
+            ));
+            k.push("static margin".into());
+        }
+    }
+    if let Some(t2) = m.time_to_double_s {
+        if t2 < th.time_to_double_s {
+            r.push(format!(
+                "unstable mode doubles in {t2:.2} s (threshold {:.1} s)",
+                th.time_to_double_s
+            ));
+            k.push("fast instability".into());
+        }
+    }
+    (r, k)
+}
+
+/// Group consecutive flagged points into bands; each band lists the distinct kinds.
+pub fn bands_of(speeds: &[f64], flags: &[Vec<String>]) -> Vec<Band> {
+    let mut out: Vec<Band> = Vec::new();
+    let mut open = false;
+    for (i, f) in flags.iter().enumerate() {
+        if f.is_empty() {
+            open = false;
+            continue;
+        }
+        if !open {
+            out.push(Band {
+                from_mps: speeds[i],
+                to_mps: speeds[i],
+                reasons: Vec::new(),
+            });
+            open = true;
+        }
+        let b = out.last_mut().expect("a band is open");
+        b.to_mps = speeds[i];
+        for k in f {
+            if !b.reasons.contains(k) {
+                b.reasons.push(k.clone());
+            }
+        }
+    }
+    out
+}
+
+/// Run a whole sweep. `progress` is called once per solved point (from any thread).
+pub fn run_sweep(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    s: &SweepSettings,
+    progress: &(dyn Fn() + Sync),
+) -> SweepResult {
+    let chunks: Vec<&[f64]> = s.speeds_mps.chunks(CHUNK).collect();
+    let solved: Vec<Vec<PointReport>> = chunks
+        .par_iter()
+        .map(|speeds| {
+            let mut warm: Option<TrimGuess> = None;
+            let mut out = Vec::with_capacity(speeds.len());
+            for (i, &speed) in speeds.iter().enumerate() {
+                let (tilt, pitch) = schedule_at(v, &s.schedule, speed);
+                let req = TrimRequest {
+                    speed_mps: speed,
+                    climb_rad: s.climb_rad,
+                    tilt,
+                    pitch_rad: pitch,
+                    condition: Condition::Steady,
+                    objective: s.objective,
+                };
+                let (rep, sol) = solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), i == 0);
+                if sol.trimmed() {
+                    warm = Some(sol.guess());
+                }
+                out.push(rep);
+                progress();
+            }
+            out
+        })
+        .collect();
+    let points: Vec<PointReport> = solved.into_iter().flatten().collect();
+    let speeds: Vec<f64> = points.iter().map(|p| p.speed_mps).collect();
+    let flags: Vec<Vec<String>> = points.iter().map(|p| p.reason_kinds.clone()).collect();
+    let bands = bands_of(&speeds, &flags);
+    let stall_exposure = stall_exposure(v, &points, &s.thresholds);
+    SweepResult {
+        points,
+        bands,
+        stall_exposure,
+    }
+}
+
+fn stall_exposure(v: &Vehicle, points: &[PointReport], th: &Thresholds) -> Vec<StallExposure> {
+    let speeds: Vec<f64> = points.iter().map(|p| p.speed_mps).collect();
+    let mut names: Vec<String> = v.surfaces.iter().map(|s| s.name.clone()).collect();
+    if v.derivatives.is_some() {
+        names.push("airframe".into());
+    }
+    names
+        .into_iter()
+        .map(|name| {
+            let margin = |p: &PointReport| {
+                p.surfaces
+                    .iter()
+                    .find(|s| s.name == name)
+                    .map(|s| (s.stall_margin_deg, s.critical_part.clone()))
+            };
+            let stalled: Vec<Vec<String>> = points
+                .iter()
+                .map(|p| match margin(p) {
+                    Some((m, part)) if m < 0.0 => vec![format!("stalled ({part})")],
+                    _ => vec![],
+                })
+                .collect();
+            let near: Vec<Vec<String>> = points
+                .iter()
+                .map(|p| match margin(p) {
+                    Some((m, part)) if m < th.stall_margin_deg => vec![format!("margin below {:.1} deg ({part})", th.stall_margin_deg)],
+                    _ => vec![],
+                })
+                .collect();
+            StallExposure {
+                surface: name.clone(),
+                stalled: bands_of(&speeds, &stalled),
+                near_stall: bands_of(&speeds, &near),
+            }
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn bands_merge_neighbours_and_keep_distinct_reasons() {
+        let s = [0.0, 1.0, 2.0, 3.0, 4.0];
+        let f = vec![
+            vec!["a".to_string()],
+            vec!["a".to_string(), "b".to_string()],
+            vec![],
+            vec!["c".to_string()],
+            vec![],
+        ];
+        let b = bands_of(&s, &f);
+        assert_eq!(b.len(), 2);
+        assert_eq!((b[0].from_mps, b[0].to_mps), (0.0, 1.0));
+        assert_eq!(b[0].reasons, vec!["a", "b"]);
+        assert_eq!((b[1].from_mps, b[1].to_mps), (3.0, 3.0));
+    }
+}
