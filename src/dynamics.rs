@@ -359,8 +359,9 @@ fn evaluate_with(
         let mut gx = n * t1 * ca;
         let mut gz = -n * t1 * sa;
         if vt > 1e-9 {
-            gx -= n * perf.ram_drag_n * tx / vt;
-            gz -= n * perf.ram_drag_n * tz / vt;
+            let d = n * r.momentum_drag_factor * perf.ram_drag_n / vt;
+            gx -= d * tx;
+            gz -= d * tz;
         }
         let gm = dz * gx - dx * gz;
         fx += gx;

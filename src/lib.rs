@@ -5,13 +5,17 @@
 
 pub mod aero;
 pub mod atmosphere;
+pub mod corridor;
 pub mod dynamics;
+pub mod flight;
 pub mod input;
 pub mod linear;
+pub mod loops;
 pub mod margins;
 pub mod output;
 pub mod rotor;
 pub mod scenario;
+pub mod schedule;
 pub mod sweep;
 pub mod trim;
 pub mod vehicle;

@@ -62,8 +62,11 @@
 //! # Power
 //! Ideal power `P_ideal = T (V_n + v_i)`; it is negative in the windmill-brake state, where the
 //! air does work on the rotor. Shaft power from [`PowerModel`]:
-//! - `FigureOfMerit(FM)`: `P = T (V_n + v_i) / FM`; in hover `T v_h / FM`, so the figure of merit
-//!   lumps induced and profile losses (Leishman 2006, ch. 2: `FM = P_ideal / P_actual`).
+//! - `FigureOfMerit(FM)`: `P = T V_n + T v_i / FM`: the useful (climb or propulsive) work
+//!   `T V_n` plus the induced power raised by the losses that the figure of merit lumps
+//!   together; in hover `T v_h / FM` (Leishman 2006, ch. 2: `FM = P_ideal / P_actual`).
+//!   Dividing the whole ideal power by FM instead would charge hover-rotor losses to the
+//!   propulsive work of a cruise propeller and give propulsive efficiencies near FM.
 //! - `InducedFactor(kappa)`: `P = kappa T v_i + T V_n`, the induced and climb (or propulsive)
 //!   parts of Leishman's power balance with the profile power left out; in hover `kappa T v_h`.
 //!
@@ -72,12 +75,16 @@
 //! rotors on a whirl tower; small UAV rotors and propellers usually reach 0.5 to 0.7 (common
 //! practice). The hot path does not enforce a range: [`PowerModel::validate`] does, at load time.
 //!
-//! # Mass flow and ram drag
-//! Mass flow through the disc `rho A U` with `U = sqrt(V_t^2 + (V_n + v_i)^2)`; the momentum
-//! (ram) drag `rho A U V_t` is the in-plane momentum of that air, which the rotor turns into its
-//! axis. It acts opposite the in-plane velocity. At `T = 0` the rotor is taken as idle (stopped or
-//! unloaded): no mass flow and no ram drag, so these two jump at `T = 0` (a solver that
-//! differentiates at zero thrust should use a one-sided step).
+//! # Mass flow and momentum drag
+//! Mass flow through the disc `rho A U` with `U = sqrt(V_t^2 + (V_n + v_i)^2)`. The momentum
+//! (ram) drag is the in-plane momentum of the air the rotor accelerates, `rho A v_i V_t`,
+//! turned into the rotor axis; it acts opposite the in-plane velocity. In edgewise hover-like
+//! flow (`v_i >> V`) it is close to the captured-stream-tube value `rho A U V_t`; at cruise
+//! (`v_i -> T/(2 rho A V)`) it tends to `(T/2) V_t/V`, a normal force proportional to thrust
+//! and disc incidence; it vanishes with thrust, so an idle rotor adds no drag and the loads
+//! are continuous at `T = 0`. The vehicle file can scale it per rotor group
+//! (`momentum_drag_factor`). This choice is ours (preliminary-design practice), not a
+//! published model.
 //!
 //! # Degenerate inputs
 //! Nothing here panics or returns NaN. A density or disc area that is zero, negative or not
@@ -241,7 +248,7 @@ pub fn performance(
         ideal_power_w: ideal,
         shaft_power_w: shaft_from_parts(thrust_n, v_axial_mps, v_i, ideal, power),
         mass_flow_kg_s: mass_flow,
-        ram_drag_n: saturate(mass_flow * v_t),
+        ram_drag_n: saturate(density_kg_m3 * disk_area_m2 * v_i * v_t),
     }
 }
 
@@ -382,7 +389,7 @@ fn shaft_from_parts(
             if ideal_w <= 0.0 {
                 0.0
             } else if fm > 0.0 {
-                ideal_w / fm
+                saturate(thrust_n * v_axial_mps) + saturate(thrust_n * v_i / fm)
             } else {
                 f64::INFINITY
             }

@@ -442,3 +442,33 @@ mod tests {
         assert_eq!(t.at(30.0), 0.0);
     }
 }
+
+/// A schedule file: a TOML file with a `[schedule]` table in the scenario format, optionally
+/// with `name` and `description` (what `hoverline schedule` writes).
+#[derive(Debug, Clone, Deserialize, Serialize)]
+#[serde(deny_unknown_fields)]
+pub struct ScheduleDocument {
+    /// Name of the schedule.
+    #[serde(default)]
+    pub name: String,
+    /// Free text (how it was made).
+    #[serde(default)]
+    pub description: String,
+    /// The table.
+    pub schedule: ScheduleFile,
+}
+
+/// Read and validate a schedule file for a vehicle.
+pub fn load_schedule_file(path: &Path, v: &Vehicle) -> Result<Schedule, InputError> {
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        InputError::file(
+            path,
+            format!("cannot read schedule file: {e}"),
+            "give a file written by `hoverline schedule` or a TOML file with a [schedule] table",
+        )
+    })?;
+    let doc: ScheduleDocument =
+        toml::from_str(&text).map_err(|e| InputError::from_toml(path, &text, &e))?;
+    build_schedule(&doc.schedule, v, &KeyPath::root().key("schedule"))
+        .map_err(|inv| InputError::from_invalid(path, &text, inv))
+}

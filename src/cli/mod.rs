@@ -1,6 +1,9 @@
 //! Command-line arguments (clap) and the dispatch to one file per command.
 
 mod check;
+mod corridor;
+mod fly;
+mod schedule;
 mod sweep;
 mod trim;
 
@@ -32,6 +35,12 @@ enum Command {
     Trim(trim::TrimArgs),
     /// Trim a scenario's whole speed sweep; write trim.csv, sweep.json and plots
     Sweep(sweep::SweepArgs),
+    /// Map the trimmable region over airspeed and tilt (or pitch); write corridor.csv, corridor.json and a plot
+    Corridor(corridor::CorridorArgs),
+    /// Build the transition schedule with the largest smallest margin through the corridor
+    Schedule(schedule::ScheduleArgs),
+    /// Fly the transition in time (hover to cruise, or back); write flight.csv, flight.json and plots
+    Fly(fly::FlyArgs),
 }
 
 /// What can go wrong in a command.
@@ -67,6 +76,9 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Check(a) => check::run(a),
         Command::Trim(a) => trim::run(a),
         Command::Sweep(a) => sweep::run(a),
+        Command::Corridor(a) => corridor::run(a),
+        Command::Schedule(a) => schedule::run(a),
+        Command::Fly(a) => fly::run(a),
     }
 }
 

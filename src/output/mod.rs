@@ -10,3 +10,5 @@ pub const CAUTION: &str = "Preliminary design aid from quasi-steady, simplified 
 Defer to the applicable airworthiness authority, local aviation rules and licensed flight-test practice.";
 pub mod plots;
 pub mod sweep_files;
+pub mod corridor_files;
+pub mod flight_files;

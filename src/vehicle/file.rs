@@ -229,6 +229,8 @@ pub struct RotorFile {
     pub induced_power_factor: Option<f64>,
     /// Thrust lag time constant (s).
     pub thrust_lag_s: f64,
+    /// Scale on the momentum (ram) drag in edgewise flow (default 1; 0 leaves it out).
+    pub momentum_drag_factor: Option<f64>,
 }
 
 /// `[derivatives]`
@@ -594,6 +596,13 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
             power_max_w: c.positive("power_max_w", r.power_max_w)?,
             power_model,
             thrust_lag_s: r.thrust_lag_s,
+            momentum_drag_factor: c.range(
+                "momentum_drag_factor",
+                r.momentum_drag_factor.unwrap_or(1.0),
+                0.0,
+                2.0,
+                "1 keeps the momentum-theory value, 0 leaves it out (thrust data that include it)",
+            )?,
         });
     }
 

@@ -158,6 +158,8 @@ pub struct RotorGroup {
     pub power_model: PowerModel,
     /// First-order thrust lag time constant (s).
     pub thrust_lag_s: f64,
+    /// Scale on the momentum drag in edgewise flow (-).
+    pub momentum_drag_factor: f64,
 }
 
 impl RotorGroup {

@@ -1,0 +1,1 @@
+//! loops (being written).

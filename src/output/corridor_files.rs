@@ -1,0 +1,1 @@
+//! corridor_files (being written).

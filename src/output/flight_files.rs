@@ -1,0 +1,1 @@
+//! flight_files (being written).

@@ -1,0 +1,1 @@
+//! schedule (being written).

@@ -1,0 +1,2 @@
+//! Benchmark (placeholder until written).
+fn main() {}
