@@ -3,7 +3,9 @@
 //!
 //! Points are solved in fixed chunks of consecutive speeds; inside a chunk each point starts
 //! from its neighbour's solution (warm start), and the first point of a chunk tries every cold
-//! start and keeps the best branch. The chunking does not depend on the number of threads, so
+//! start and keeps the best branch; so does any point whose warm-started solution fails, and a
+//! point with a stalled surface on entry into the stalled run and every fourth point inside it,
+//! since that is where a second branch is likely. The chunking does not depend on the number of threads, so
 //! results are the same on every machine; chunks run in parallel with rayon.
 
 use rayon::prelude::*;
@@ -511,6 +513,7 @@ pub fn run_sweep(
         .par_iter()
         .map(|speeds| {
             let mut warm: Option<TrimGuess> = None;
+            let mut stalled_run = 0usize;
             let mut out = Vec::with_capacity(speeds.len());
             for (i, &speed) in speeds.iter().enumerate() {
                 let (tilt, pitch) = schedule_at(v, &s.schedule, speed);
@@ -522,7 +525,18 @@ pub fn run_sweep(
                     condition: Condition::Steady,
                     objective: s.objective,
                 };
-                let (rep, sol) = solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), i == 0);
+                let explore = i == 0;
+                let (mut rep, mut sol) =
+                    solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), explore);
+                // A stalled surface hints at a second branch (a tilt-wing near stall, a
+                // tail-sitter at low speed): try every start and keep the best.
+                // Inside a stalled run, look again on entry and every fourth point.
+                let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
+                if !explore && (!sol.trimmed() || (stalled && stalled_run % 4 == 0)) {
+                    (rep, sol) = solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), true);
+                }
+                let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
+                stalled_run = if stalled { stalled_run + 1 } else { 0 };
                 if sol.trimmed() {
                     warm = Some(sol.guess());
                 }

@@ -2,6 +2,7 @@
 //! text tables for the terminal, plots and the HTML report. This is the only library module
 //! that touches the file system for writing.
 
+pub mod chart;
 pub mod files;
 pub mod text;
 
