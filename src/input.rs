@@ -120,7 +120,13 @@ impl InputError {
     /// Turn a TOML parse error (syntax, wrong type, unknown key) into a located error.
     pub fn from_toml(file: &Path, text: &str, e: &toml::de::Error) -> InputError {
         let line = e.span().map(|s| line_of_offset(text, s.start));
-        let msg = e.message().trim().to_string();
+        let mut msg = e.message().trim().to_string();
+        if let Some(l) = line.and_then(|l| text.lines().nth(l - 1)) {
+            let l = l.trim();
+            if !l.is_empty() && l.len() < 120 {
+                msg = format!("{msg} (at `{l}`)");
+            }
+        }
         let hint = if msg.contains("unknown field") {
             "check the spelling against the file format in README.md; keys carry their unit (mass_kg, area_m2)"
         } else if msg.contains("missing field") {

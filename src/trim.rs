@@ -921,8 +921,31 @@ fn untrimmable_reasons(v: &Vehicle, p: &Problem, f: &Point3, active: &[String]) 
             }
         }
     }
+    // Rotor groups working near their limits in the closest attempt.
+    let rho = p.atm.density_kg_m3;
+    for (r, l) in v.rotors.iter().zip(&p.eval.rotors) {
+        let t1 = l.thrust_n / r.count as f64;
+        let avail = rotor::thrust_available(
+            r.thrust_max_n,
+            r.power_max_w,
+            rho,
+            r.disk_area_m2(),
+            l.v_axial_mps,
+            l.v_inplane_mps,
+            r.power_model,
+        );
+        if t1 >= 0.9 * avail && avail > 0.0 && !active.iter().any(|a| a.contains(&r.name)) {
+            out.push(format!(
+                "rotor group '{}' near the thrust it can make ({:.0} of {:.0} N per rotor, limited by {})",
+                r.name,
+                t1,
+                avail,
+                if avail < r.thrust_max_n * 0.999 { "power" } else { "its thrust cap" }
+            ));
+        }
+    }
     if !worst.is_empty() {
-        out.push(format!("no equilibrium: {}", worst.join(", ")));
+        out.push(format!("no equilibrium in the closest attempt: {}", worst.join(", ")));
     }
     if out.is_empty() {
         out.push("the solver did not converge from any start".to_string());

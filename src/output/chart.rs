@@ -54,6 +54,9 @@ const SHADE_COLOURS: [RGBColor; 4] = [
     RGBColor(230, 159, 0),
 ];
 
+/// Opacity of shaded bands.
+const SHADE_ALPHA: f64 = 0.2;
+
 const FONT: &str = "sans-serif";
 const TITLE_PX: f64 = 26.0;
 const PANEL_TITLE_PX: f64 = 22.0;
@@ -68,7 +71,7 @@ const X_LABEL_AREA: u32 = 58;
 const MARGIN: u32 = 12;
 const LINE_WIDTH: u32 = 3;
 const REF_LINE_WIDTH: u32 = 2;
-const COLOUR_BAR_WIDTH: u32 = 190;
+const COLOUR_BAR_WIDTH: u32 = 200;
 
 /// A line in a panel.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -232,7 +235,11 @@ pub fn render(
         720 * columns as u32
     };
     let panel_w = width / columns as u32;
-    let panel_h = ((panel_w as f64 * 0.64) as u32).clamp(440, 800);
+    let mut panel_h = ((panel_w as f64 * 0.64) as u32).clamp(440, 800);
+    if rows > 1 {
+        // Several rows of full-width panels: keep the page near 1400 x 1100.
+        panel_h = panel_h.min(520);
+    }
     let height = TITLE_STRIP + FOOTER_STRIP + rows as u32 * panel_h;
     let fig = Figure::Grid {
         title,
@@ -713,7 +720,7 @@ fn runs(x: &[f64], y: &[f64], b: &Bounds) -> (Vec<Vec<(f64, f64)>>, Vec<(f64, f6
 
 enum Swatch {
     Line(usize, u32),
-    Fill(RGBColor),
+    Fill(RGBColor, f64),
     Marker(RGBColor),
 }
 
@@ -783,7 +790,7 @@ fn legend_items(p: &Panel, y_range: (f64, f64)) -> Vec<LegendItem> {
     let labels = shade_labels(&p.shades);
     for l in labels.iter().filter(|l| !l.is_empty()) {
         items.push(LegendItem {
-            swatch: Swatch::Fill(shade_colour(&labels, l)),
+            swatch: Swatch::Fill(shade_colour(&labels, l), SHADE_ALPHA),
             text: l.clone(),
         });
     }
@@ -844,10 +851,10 @@ fn draw_swatch<DB: DrawingBackend>(
                 }
             }
         }
-        Swatch::Fill(c) => {
+        Swatch::Fill(c, alpha) => {
             area.draw(&Rectangle::new(
                 [(x, yc - 8), (x + SWATCH_W, yc + 8)],
-                c.mix(0.25).filled(),
+                c.mix(alpha).filled(),
             ))?;
             area.draw(&Rectangle::new(
                 [(x, yc - 8), (x + SWATCH_W, yc + 8)],
@@ -928,8 +935,8 @@ fn draw_series_clipped<DB: DrawingBackend>(
 
 /// Draw one panel (axes, shades, reference lines, series, legend) into `area`; `extra_pts`
 /// widen the automatic range, `tight_x` keeps the automatic x range unpadded, `extra_legend`
-/// is appended to the legend and `extra` draws more content after the shades and before the
-/// lines. Returns the height of the legend strip under the chart (px).
+/// is appended to the legend and `extra` draws more content after the shades and reference
+/// lines, before the series. Returns the height of the legend strip under the chart (px).
 fn draw_panel<DB, F>(
     area: &DrawingArea<DB, Shift>,
     p: &Panel,
@@ -981,7 +988,7 @@ where
     let left_guess = 110;
     let (_, legend_h) = legend_layout(area, &items, left_guess, w as i32 - left_guess - 16)?;
     let plot_h = h.saturating_sub(legend_h + caption_h + X_LABEL_AREA + 2 * MARGIN);
-    let (yt, yl) = ticks(yr, None, (plot_h / 70).clamp(3, 10) as usize);
+    let (yt, yl) = ticks(yr, None, (plot_h / 55).clamp(4, 10) as usize);
     let tick_style = font(TICK_PX);
     let mut widest = 0;
     for l in &yl {
@@ -991,7 +998,7 @@ where
     let left = (MARGIN + y_area) as i32;
     let (pos, legend_h) = legend_layout(area, &items, left, w as i32 - left - 16)?;
     let plot_w = w.saturating_sub(y_area + 3 * MARGIN);
-    let (xt, xl) = ticks(xr, p.x_tick_step, (plot_w / 110).clamp(3, 12) as usize);
+    let (xt, xl) = ticks(xr, p.x_tick_step, (plot_w / 110).clamp(3, 8) as usize);
 
     let (chart_area, legend_area) = area.split_vertically(h.saturating_sub(legend_h));
     let mut b = ChartBuilder::on(&chart_area);
@@ -1044,10 +1051,9 @@ where
         let col = shade_colour(&labels, &s.label);
         chart.draw_series(std::iter::once(Rectangle::new(
             [(a, yr.0), (c, yr.1)],
-            col.mix(0.18).filled(),
+            col.mix(SHADE_ALPHA).filled(),
         )))?;
     }
-    extra(&mut chart)?;
     for v in &p.vlines {
         if v.x.is_finite() && v.x >= xr.0 && v.x <= xr.1 {
             draw_path(
@@ -1068,6 +1074,7 @@ where
             )?;
         }
     }
+    extra(&mut chart)?;
     for s in &p.series {
         draw_series_clipped(&mut chart, s, &bounds)?;
     }
@@ -1120,15 +1127,23 @@ fn draw_colour_bar<DB: DrawingBackend>(
     label: &str,
     legend_h: u32,
 ) -> Res<DB> {
-    let (_, h) = bar.dim_in_pixel();
+    let (w, h) = bar.dim_in_pixel();
     let plot_h = h.saturating_sub(legend_h + X_LABEL_AREA + 2 * MARGIN);
-    let (yt, yl) = ticks(range, None, (plot_h / 70).clamp(3, 10) as usize);
+    let (yt, yl) = ticks(range, None, (plot_h / 55).clamp(4, 10) as usize);
+    let mut widest = 0;
+    for l in &yl {
+        widest = widest.max(bar.estimate_text_size(l, &font(TICK_PX))?.0);
+    }
+    // Bar 32 px wide, then tick marks, labels and the rotated value label.
+    let label_area = widest + 16 + 40;
+    let left = w.saturating_sub(32 + label_area + MARGIN).max(MARGIN);
     let mut chart = ChartBuilder::on(bar)
         .margin_top(MARGIN)
         .margin_bottom(MARGIN + legend_h)
-        .margin_left(24)
+        .margin_left(left)
+        .margin_right(MARGIN)
         .x_label_area_size(X_LABEL_AREA)
-        .right_y_label_area_size(COLOUR_BAR_WIDTH - 24 - 30)
+        .right_y_label_area_size(label_area)
         .build_cartesian_2d(
             Axis::new((0.0, 1.0), Vec::new()),
             Axis::new(range, yt.clone()),
@@ -1142,6 +1157,7 @@ fn draw_colour_bar<DB: DrawingBackend>(
         .y_desc(label.to_string())
         .label_style(font(TICK_PX))
         .axis_desc_style(font(AXIS_DESC_PX))
+        .set_all_tick_mark_size(6)
         .y_label_formatter(&fy)
         .draw()?;
     let n = 128;
@@ -1258,7 +1274,7 @@ fn draw_map<DB: DrawingBackend>(
         .any(|v| !v.is_some_and(|a| a.is_finite()));
     let extra_legend = if grey {
         vec![LegendItem {
-            swatch: Swatch::Fill(NO_VALUE_GREY),
+            swatch: Swatch::Fill(NO_VALUE_GREY, 1.0),
             text: "not trimmable".into(),
         }]
     } else {

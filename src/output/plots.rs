@@ -631,3 +631,215 @@ fn eigen_points(ctx: &Ctx, sc: &Scenario) -> (Vec<(f64, f64, f64)>, Overlay) {
     }
     (pts, overlay)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::linear::Mode;
+    use crate::sweep::{
+        ActuatorValue, MarginValues, Residual, RotorValue, StallExposure, SurfaceValue,
+    };
+
+    fn demo(rel: &str) -> PathBuf {
+        Path::new(env!("CARGO_MANIFEST_DIR")).join(rel)
+    }
+
+    fn temp_dir(tag: &str) -> PathBuf {
+        let d = std::env::temp_dir().join(format!("hoverline-plots-{tag}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&d);
+        d
+    }
+
+    /// A hand-made sweep point; `trimmed = false` leaves every value absent, as the sweep
+    /// does for an untrimmable point.
+    fn point(speed: f64, trimmed: bool) -> PointReport {
+        let mut p = PointReport {
+            speed_mps: speed,
+            climb_deg: 0.0,
+            altitude_m: 0.0,
+            density_kg_m3: 1.225,
+            mass_kg: 5.0,
+            weight_n: 49.0,
+            trimmed,
+            reasons: Vec::new(),
+            reason_kinds: Vec::new(),
+            active_limits: Vec::new(),
+            pitch_deg: None,
+            alpha_deg: None,
+            path_accel_mps2: None,
+            residual: Residual {
+                x_n: 0.0,
+                z_n: 0.0,
+                m_nm: 0.0,
+            },
+            iterations: 3,
+            actuators: Vec::new(),
+            rotors: Vec::new(),
+            surfaces: Vec::new(),
+            modes: Vec::new(),
+            margins: None,
+            state_names: Vec::new(),
+            input_names: Vec::new(),
+            a_matrix: None,
+            b_matrix: None,
+        };
+        if !trimmed {
+            p.reasons.push("untrimmable: thrust cap".into());
+            return p;
+        }
+        let act =
+            |name: &str, kind: &str, value: f64, unit: &str, min: f64, max: f64| ActuatorValue {
+                name: name.into(),
+                kind: kind.into(),
+                value,
+                unit: unit.into(),
+                min,
+                max,
+            };
+        p.pitch_deg = Some(90.0 - 4.0 * speed);
+        p.alpha_deg = Some(90.0 - 4.0 * speed);
+        p.actuators = vec![
+            act("front", "thrust", 40.0 - speed, "N", 0.0, 60.0),
+            act("elevons", "elevator", -speed / 4.0, "deg", -30.0, 30.0),
+            act("wing-tilt", "tilt", 90.0 - 4.0 * speed, "deg", 0.0, 95.0),
+        ];
+        p.rotors = vec![RotorValue {
+            name: "front".into(),
+            count: 2,
+            thrust_n: 40.0 - speed,
+            axis_deg: 90.0,
+            power_w: 500.0,
+            thrust_margin: 0.3,
+            power_margin: 0.2,
+            limited_by: "cap".into(),
+            induced_velocity_mps: 8.0,
+        }];
+        p.surfaces = vec![SurfaceValue {
+            name: "wing".into(),
+            alpha_deg: 20.0 - speed,
+            critical_alpha_deg: 22.0 - speed,
+            critical_part: "clean".into(),
+            stall_margin_deg: speed - 8.0,
+            stall_pos_deg: 14.0,
+            stall_neg_deg: -12.0,
+            lift_n: 10.0,
+            drag_n: 1.0,
+        }];
+        p.modes = vec![Mode {
+            name: "short-period".into(),
+            real_per_s: -1.0 - 0.1 * speed,
+            imag_rad_s: 2.0,
+            natural_freq_rad_s: 2.3,
+            damping_ratio: 0.4,
+            period_s: Some(3.1),
+            time_to_double_s: None,
+            time_to_half_s: Some(0.6),
+            shape: [1.0, 0.5, 0.2, 0.1],
+            level_8785c: None,
+        }];
+        p.margins = Some(MarginValues {
+            stall_deg: speed - 8.0,
+            stall_surface: "wing".into(),
+            thrust: 0.3,
+            power: 0.2,
+            pitch_accel_up_rad_s2: 3.0,
+            pitch_accel_down_rad_s2: 2.0,
+            elevator_deg: Some(20.0),
+            static_margin_pct: (speed > 8.0).then_some(6.0),
+            lift_share: speed / 20.0,
+            max_real_per_s: -1.0 - 0.1 * speed,
+            time_to_double_s: None,
+        });
+        p
+    }
+
+    fn synthetic() -> SweepResult {
+        let points: Vec<PointReport> = (0..=20).map(|k| point(k as f64, k != 5)).collect();
+        let band = |a: f64, b: f64, r: &str| Band {
+            from_mps: a,
+            to_mps: b,
+            reasons: vec![r.into()],
+        };
+        SweepResult {
+            points,
+            bands: vec![band(0.0, 7.0, "stall of 'wing'")],
+            stall_exposure: vec![StallExposure {
+                surface: "wing".into(),
+                stalled: vec![band(0.0, 7.0, "stalled (clean)")],
+                near_stall: vec![band(0.0, 10.0, "margin below 3.0 deg (clean)")],
+            }],
+        }
+    }
+
+    #[test]
+    fn untrimmed_points_are_gaps_not_zeros() {
+        let r = synthetic();
+        let ctx = Ctx::new(&r.points);
+        let pitch = ctx.series("pitch".into(), 0, |p| p.pitch_deg);
+        assert!(pitch.y[5].is_nan());
+        assert_eq!(pitch.y[4], 90.0 - 16.0);
+        let panels = trim_panels(&ctx);
+        let thrust = panels
+            .iter()
+            .find(|p| p.title.starts_with("thrust"))
+            .unwrap();
+        assert!(thrust.series.iter().all(|s| s.y[5].is_nan()));
+        // One-metre-per-second sweep: a band of points covers half a step beyond its ends.
+        assert_eq!(ctx.step, 1.0);
+        let sh = ctx.shade(&r.bands[0], "unsafe band");
+        assert_eq!((sh.from, sh.to), (0.0, 7.5));
+    }
+
+    #[test]
+    fn sweep_writes_four_figures_with_labels_and_thresholds() {
+        let sc = crate::scenario::load_scenario(&demo("scenarios/tail-sitter-transition.toml"))
+            .expect("demo scenario loads");
+        let dir = temp_dir("sweep");
+        let files = sweep(&dir, &sc, &synthetic()).expect("sweep plots render");
+        assert_eq!(files.len(), 8);
+        for stem in ["trim_curves", "surface_alpha", "margins", "eigenvalues"] {
+            for ext in ["png", "svg"] {
+                let f = dir.join(format!("{stem}.{ext}"));
+                assert!(files.contains(&f), "{} not returned", f.display());
+                assert!(f.exists());
+            }
+        }
+        let eig = std::fs::read_to_string(dir.join("eigenvalues.svg")).unwrap();
+        assert!(eig.contains("real part (1/s)"));
+        assert!(eig.contains("imaginary part (rad/s)"));
+        let margins = std::fs::read_to_string(dir.join("margins.svg")).unwrap();
+        let th = &sc.file.thresholds;
+        assert!(margins.contains(&format!("threshold {:.1} deg", th.stall_margin_deg)));
+        assert!(margins.contains("unsafe band"));
+        let trim = std::fs::read_to_string(dir.join("trim_curves.svg")).unwrap();
+        assert!(trim.contains("&apos;front&apos; thrust") || trim.contains("'front' thrust"));
+        assert!(trim.contains("tilt angle (deg)"));
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn polars_write_one_pair_per_surface_with_30_degree_ticks() {
+        let v = crate::vehicle::load_vehicle(&demo("vehicles/tilt-wing-courier.toml"))
+            .expect("demo vehicle loads");
+        let dir = temp_dir("polars");
+        let files = polars(&v, &dir).expect("polar plots render");
+        assert_eq!(files.len(), 2 * v.surfaces.len());
+        let s = &v.surfaces[0];
+        let svg =
+            std::fs::read_to_string(dir.join(format!("polar_{}.svg", file_part(&s.name)))).unwrap();
+        assert!(svg.contains("angle of attack alpha (deg)"));
+        for tick in ["-150", "-120", "120", "150"] {
+            assert!(svg.contains(&format!("\n{tick}\n")), "tick {tick} missing");
+        }
+        let pos = s.polar.stall_angles_rad().0.to_degrees();
+        assert!(svg.contains(&format!("positive stall {pos:.1} deg")));
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn file_names_are_made_safe() {
+        assert_eq!(file_part("main wing/left"), "main_wing_left");
+        assert_eq!(file_part("tail-2"), "tail-2");
+        assert_eq!(file_part(""), "unnamed");
+    }
+}

@@ -4,3 +4,5 @@
 mod aero_checks;
 mod atmosphere_checks;
 mod rotor_checks;
+mod trim_checks;
+mod vehicle_checks;
