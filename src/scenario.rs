@@ -83,6 +83,10 @@ pub struct SweepFile {
     /// Flight-path angle, climbing positive (deg).
     #[serde(default)]
     pub climb_deg: f64,
+    /// What trim minimises where controls outnumber conditions: "power" (default) or
+    /// "stall-margin" (largest smallest stall margin).
+    #[serde(default)]
+    pub objective: crate::trim::Objective,
 }
 
 /// What the schedule table holds.

@@ -6,9 +6,8 @@ use clap::Args;
 
 use super::CliError;
 use hoverline::output::text;
-use hoverline::scenario::load_scenario;
+use hoverline::scenario::{load_scenario, load_schedule_file};
 use hoverline::sweep::{run_sweep, SweepSettings};
-use hoverline::trim::Objective;
 
 /// Arguments of `sweep`.
 #[derive(Debug, Args)]
@@ -18,18 +17,24 @@ pub struct SweepArgs {
     /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    /// Use this schedule file (from `hoverline schedule`) instead of the scenario's schedule
+    #[arg(long, value_name = "FILE")]
+    schedule: Option<PathBuf>,
 }
 
 /// Run `sweep`.
 pub fn run(a: SweepArgs) -> Result<(), CliError> {
-    let sc = load_scenario(&a.scenario)?;
+    let mut sc = load_scenario(&a.scenario)?;
+    if let Some(f) = &a.schedule {
+        sc.schedule = load_schedule_file(f, &sc.vehicle)?;
+    }
     let atm = hoverline::atmosphere::isa(sc.file.atmosphere.altitude_m, sc.file.atmosphere.temperature_offset_k)
         .map_err(|e| CliError::Analysis(e.to_string()))?;
     let settings = SweepSettings {
         speeds_mps: sc.speeds_mps.clone(),
         climb_rad: sc.climb_rad,
         schedule: sc.schedule.clone(),
-        objective: Objective::Power,
+        objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
     };
     let bar = indicatif::ProgressBar::new(settings.speeds_mps.len() as u64);
