@@ -146,7 +146,11 @@ impl InputError {
 /// 1-based line number of a byte offset.
 pub fn line_of_offset(text: &str, offset: usize) -> usize {
     let end = offset.min(text.len());
-    text.as_bytes()[..end].iter().filter(|&&b| b == b'\n').count() + 1
+    text.as_bytes()[..end]
+        .iter()
+        .filter(|&&b| b == b'\n')
+        .count()
+        + 1
 }
 
 /// Find the 1-based line of a key path in a TOML text written with table headers

@@ -31,11 +31,15 @@ pub struct LinearModel {
 impl LinearModel {
     /// A as nested rows.
     pub fn a_rows(&self) -> Vec<Vec<f64>> {
-        (0..4).map(|i| (0..4).map(|j| self.a[(i, j)]).collect()).collect()
+        (0..4)
+            .map(|i| (0..4).map(|j| self.a[(i, j)]).collect())
+            .collect()
     }
     /// B as nested rows (4 x inputs).
     pub fn b_rows(&self) -> Vec<Vec<f64>> {
-        (0..4).map(|i| self.b.iter().map(|c| c[i]).collect()).collect()
+        (0..4)
+            .map(|i| self.b.iter().map(|c| c[i]).collect())
+            .collect()
     }
 }
 
@@ -99,11 +103,25 @@ pub fn linearise_with_steps(
         };
         let mut xp = x0;
         xp[j] += h;
-        evaluate(v, atm, &State::from_array(xp), controls, Wind::default(), &mut ev);
+        evaluate(
+            v,
+            atm,
+            &State::from_array(xp),
+            controls,
+            Wind::default(),
+            &mut ev,
+        );
         let fp = ev.state_dot;
         let mut xm = x0;
         xm[j] -= h;
-        evaluate(v, atm, &State::from_array(xm), controls, Wind::default(), &mut ev);
+        evaluate(
+            v,
+            atm,
+            &State::from_array(xm),
+            controls,
+            Wind::default(),
+            &mut ev,
+        );
         let fm = ev.state_dot;
         for i in 0..4 {
             a[(i, j)] = (fp[i] - fm[i]) / (2.0 * h);
@@ -166,20 +184,34 @@ pub fn eigenvalues(a: &Matrix4<f64>) -> Vec<Complex<f64>> {
         }
         out.push(*l);
     }
-    out.sort_by(|x, y| x.norm().partial_cmp(&y.norm()).unwrap_or(std::cmp::Ordering::Equal));
+    out.sort_by(|x, y| {
+        x.norm()
+            .partial_cmp(&y.norm())
+            .unwrap_or(std::cmp::Ordering::Equal)
+    });
     out
 }
 
 /// Unit eigenvector of A for eigenvalue `lambda`, from the complex SVD of (A - lambda I).
 pub fn eigenvector(a: &Matrix4<f64>, lambda: Complex<f64>) -> [Complex<f64>; 4] {
-    let m: SMatrix<Complex<f64>, 4, 4> =
-        SMatrix::from_fn(|i, j| Complex::new(a[(i, j)], 0.0) - if i == j { lambda } else { Complex::new(0.0, 0.0) });
+    let m: SMatrix<Complex<f64>, 4, 4> = SMatrix::from_fn(|i, j| {
+        Complex::new(a[(i, j)], 0.0)
+            - if i == j {
+                lambda
+            } else {
+                Complex::new(0.0, 0.0)
+            }
+    });
     let svd = m.svd(false, true);
     let mut v = [Complex::new(0.0, 0.0); 4];
     if let Some(vt) = svd.v_t {
         // Smallest singular value's row of V^H.
         let k = (0..4)
-            .min_by(|&x, &y| svd.singular_values[x].partial_cmp(&svd.singular_values[y]).unwrap_or(std::cmp::Ordering::Equal))
+            .min_by(|&x, &y| {
+                svd.singular_values[x]
+                    .partial_cmp(&svd.singular_values[y])
+                    .unwrap_or(std::cmp::Ordering::Equal)
+            })
             .unwrap_or(3);
         for (j, x) in v.iter_mut().enumerate() {
             *x = vt[(k, j)].conj();
@@ -254,21 +286,29 @@ pub fn modes(a: &Matrix4<f64>, speed_mps: f64, wingborne: bool) -> Vec<Mode> {
         })
         .collect();
     if wingborne {
-        let osc: Vec<usize> = (0..out.len()).filter(|&i| out[i].imag_rad_s > 1e-9).collect();
+        let osc: Vec<usize> = (0..out.len())
+            .filter(|&i| out[i].imag_rad_s > 1e-9)
+            .collect();
         match osc.len() {
             2 => {
                 let (lo, hi) = (osc[0], osc[1]);
                 out[lo].name = "phugoid".into();
-                out[lo].level_8785c = Some(phugoid_level(out[lo].damping_ratio, out[lo].time_to_double_s));
+                out[lo].level_8785c = Some(phugoid_level(
+                    out[lo].damping_ratio,
+                    out[lo].time_to_double_s,
+                ));
                 out[hi].name = "short-period".into();
                 out[hi].level_8785c = Some(short_period_level_b(out[hi].damping_ratio));
             }
             1 => {
                 // One pair: the slower, speed-dominated pair is the phugoid, a pitch-dominated one the short period.
                 let i = osc[0];
-                if out[i].shape[0] >= out[i].shape[2].max(out[i].shape[3]) * 0.5 && out[i].natural_freq_rad_s < 1.0 {
+                if out[i].shape[0] >= out[i].shape[2].max(out[i].shape[3]) * 0.5
+                    && out[i].natural_freq_rad_s < 1.0
+                {
                     out[i].name = "phugoid".into();
-                    out[i].level_8785c = Some(phugoid_level(out[i].damping_ratio, out[i].time_to_double_s));
+                    out[i].level_8785c =
+                        Some(phugoid_level(out[i].damping_ratio, out[i].time_to_double_s));
                 } else {
                     out[i].name = "short-period".into();
                     out[i].level_8785c = Some(short_period_level_b(out[i].damping_ratio));
@@ -293,7 +333,11 @@ fn describe(l: Complex<f64>, shape: &[f64; 4]) -> String {
         } else {
             "pitch"
         };
-        let how = if l.re > 0.0 { "divergent oscillation" } else { "oscillation" };
+        let how = if l.re > 0.0 {
+            "divergent oscillation"
+        } else {
+            "oscillation"
+        };
         format!("{what} {how}")
     } else {
         if l.norm() < 1e-6 {
@@ -306,7 +350,11 @@ fn describe(l: Complex<f64>, shape: &[f64; 4]) -> String {
         } else {
             "pitch"
         };
-        let how = if l.re > 0.0 { "divergence" } else { "subsidence" };
+        let how = if l.re > 0.0 {
+            "divergence"
+        } else {
+            "subsidence"
+        };
         format!("{what} {how}")
     }
 }
@@ -317,7 +365,10 @@ mod tests {
 
     #[test]
     fn eigenvector_solves_the_eigenproblem() {
-        let a = Matrix4::new(-0.045, 0.036, 0.0, -9.81, -0.369, -2.02, 53.6, 0.0, 0.0019, -0.05, -2.98, 0.0, 0.0, 0.0, 1.0, 0.0);
+        let a = Matrix4::new(
+            -0.045, 0.036, 0.0, -9.81, -0.369, -2.02, 53.6, 0.0, 0.0019, -0.05, -2.98, 0.0, 0.0,
+            0.0, 1.0, 0.0,
+        );
         for l in eigenvalues(&a) {
             let v = eigenvector(&a, l);
             for i in 0..4 {

@@ -4,6 +4,8 @@
 //!
 //! - Stall margin: degrees from the local angle of attack of each immersed or clean part to
 //!   its positive and negative stall angle; the smaller of the two; negative when stalled.
+//!   Only parts whose dynamic-pressure load q S_part reaches [`LOADED_PART_SHARE`] of the
+//!   weight count (in hover the clean part of a wing sees no flow at all).
 //! - Thrust margin: (T_available - T) / T_available, with T_available limited by the thrust
 //!   cap and by the power available at the current inflow (momentum theory, Glauert).
 //! - Power margin: (P_available - P) / P_available.
@@ -41,6 +43,19 @@ pub struct SurfaceMargin {
     pub lift_n: f64,
     /// Total drag (N).
     pub drag_n: f64,
+    /// Whether any part carries load ([`part_is_loaded`]); stall of an unloaded surface is
+    /// reported but not flagged.
+    pub loaded: bool,
+}
+
+/// Smallest share of the weight that a surface part's dynamic-pressure load q S_part must
+/// reach before its stall counts (common practice, no source: below it the part cannot
+/// change the trim or the handling).
+pub const LOADED_PART_SHARE: f64 = 0.005;
+
+/// Whether a surface part of total area `area_m2` carries enough dynamic pressure to count.
+pub fn part_is_loaded(p: &crate::dynamics::PartLoad, area_m2: f64, weight_n: f64) -> bool {
+    p.fraction > 0.0 && p.dynamic_pressure_pa * area_m2 * p.fraction >= LOADED_PART_SHARE * weight_n
 }
 
 /// Thrust and power margin of one rotor group.
@@ -154,11 +169,18 @@ pub fn margins(
     for (i, s) in v.surfaces.iter().enumerate() {
         let (pos, neg) = s.polar.stall_angles_rad();
         let parts = e.surface_parts(i);
+        let w = v.weight_n();
+        let loaded = parts.iter().any(|p| part_is_loaded(p, s.area_m2, w));
         let mut best = f64::INFINITY;
         let mut crit_alpha = parts[0].alpha_rad;
         let mut crit_name = "clean".to_string();
         for p in parts {
-            if p.fraction <= 0.0 {
+            let counts = if loaded {
+                part_is_loaded(p, s.area_m2, w)
+            } else {
+                p.fraction > 0.0
+            };
+            if !counts {
                 continue;
             }
             let m = (pos - p.alpha_rad).min(p.alpha_rad - neg);
@@ -183,6 +205,7 @@ pub fn margins(
             stall_neg_deg: neg.to_degrees(),
             lift_n: load.lift_n,
             drag_n: load.drag_n,
+            loaded,
         });
     }
     if let (Some(d), Some(dl)) = (&v.derivatives, &e.derivatives) {
@@ -197,12 +220,21 @@ pub fn margins(
             stall_neg_deg: d.alpha_stall_neg_rad.to_degrees(),
             lift_n: dl.lift_n,
             drag_n: dl.drag_n,
+            loaded: true,
         });
     }
+    let any_loaded = surfaces.iter().any(|s| s.loaded);
     let (stall_deg, stall_surface) = surfaces
         .iter()
+        .filter(|s| s.loaded || !any_loaded)
         .map(|s| (s.stall_margin_deg, s.name.clone()))
-        .fold((f64::INFINITY, String::new()), |a, b| if b.0 < a.0 { b } else { a });
+        .fold((f64::INFINITY, String::new()), |a, b| {
+            if b.0 < a.0 {
+                b
+            } else {
+                a
+            }
+        });
 
     // Rotors.
     let avail = thrust_available(v, atm, e);
@@ -240,7 +272,10 @@ pub fn margins(
         .map(|r| r.thrust_margin)
         .fold(f64::INFINITY, f64::min);
     let thrust = if thrust.is_finite() { thrust } else { 1.0 };
-    let power = rotors.iter().map(|r| r.power_margin).fold(f64::INFINITY, f64::min);
+    let power = rotors
+        .iter()
+        .map(|r| r.power_margin)
+        .fold(f64::INFINITY, f64::min);
 
     // Pitch authority.
     let (up, down) = pitch_authority(v, atm, state, controls, lin, &avail);
@@ -268,7 +303,10 @@ pub fn margins(
     let (max_real, t2) = modes
         .iter()
         .map(|m| (m.real_per_s, m.time_to_double_s))
-        .fold((f64::NEG_INFINITY, None), |a, b| if b.0 > a.0 { b } else { a });
+        .fold(
+            (f64::NEG_INFINITY, None),
+            |a, b| if b.0 > a.0 { b } else { a },
+        );
 
     Margins {
         surfaces,
@@ -303,16 +341,21 @@ pub fn pitch_authority(
     let mut result = [0.0; 2];
     for (k, sign) in [1.0f64, -1.0].into_iter().enumerate() {
         let mut c = controls.clone();
-        for i in 0..nt + ne {
-            let dq = lin.b[i][2] * sign;
-            if dq.abs() < 1e-12 {
-                continue;
+        for ((t, col), a) in c.thrust_n.iter_mut().zip(&lin.b).zip(avail) {
+            let dq = col[2] * sign;
+            if dq.abs() > 1e-12 {
+                *t = if dq > 0.0 { a.0 } else { 0.0 };
             }
-            if i < nt {
-                c.thrust_n[i] = if dq > 0.0 { avail[i].0 } else { 0.0 };
-            } else {
-                let el = &v.elevators[i - nt];
-                c.elevator_rad[i - nt] = if dq > 0.0 { el.max_rad } else { el.min_rad };
+        }
+        for ((d, col), el) in c
+            .elevator_rad
+            .iter_mut()
+            .zip(&lin.b[nt..nt + ne])
+            .zip(&v.elevators)
+        {
+            let dq = col[2] * sign;
+            if dq.abs() > 1e-12 {
+                *d = if dq > 0.0 { el.max_rad } else { el.min_rad };
             }
         }
         evaluate(v, atm, state, &c, Wind::default(), &mut e);
@@ -322,7 +365,12 @@ pub fn pitch_authority(
 }
 
 /// Static margin K_n (fraction of reference chord) from quasi-static loads.
-pub fn static_margin(v: &Vehicle, atm: &Atmosphere, state: &State, controls: &Controls) -> Option<f64> {
+pub fn static_margin(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    state: &State,
+    controls: &Controls,
+) -> Option<f64> {
     let speed = state.u_mps.hypot(state.w_mps);
     if speed < 1.0 {
         return None;

@@ -42,6 +42,9 @@ pub struct ScenarioFile {
     /// Transition manoeuvre settings.
     #[serde(default)]
     pub transition: TransitionFile,
+    /// How `hoverline fly` flies the transition: feedback design, wind, gust, integration.
+    #[serde(default)]
+    pub flight: FlightFile,
 }
 
 /// `[atmosphere]`
@@ -184,6 +187,142 @@ impl Default for TransitionFile {
     }
 }
 
+/// `[flight]`: settings of the transition flown in time (`hoverline fly`). The feedback law is
+/// given by its design: bandwidth (rad/s) and damping ratio of each loop, from which the gains
+/// follow (see `flight::law`). The defaults are common practice for small electric VTOL
+/// aircraft and fly every demo vehicle; they are not requirements. Validated in
+/// `flight::FlightSettings::from_file`.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields, default)]
+pub struct FlightFile {
+    /// Time held at the start speed before the speed ramp begins (s).
+    pub hold_before_s: f64,
+    /// Time held at the end speed after the ramp (s).
+    pub hold_after_s: f64,
+    /// Spacing of the recorded time history (s).
+    pub sample_step_s: f64,
+    /// Relative tolerance of the Dormand-Prince integrator (-).
+    pub relative_tolerance: f64,
+    /// Absolute tolerance of the integrator (SI units of each state).
+    pub absolute_tolerance: f64,
+    /// Bandwidth of the tilt servo behind its rate limit (rad/s).
+    pub tilt_servo_bandwidth_rad_s: f64,
+    /// Pitch-attitude loop natural frequency (rad/s).
+    pub pitch_bandwidth_rad_s: f64,
+    /// Pitch-attitude loop damping ratio (-).
+    pub pitch_damping: f64,
+    /// Height loop natural frequency (rad/s).
+    pub height_bandwidth_rad_s: f64,
+    /// Height loop damping ratio (-).
+    pub height_damping: f64,
+    /// Height integral pole as a fraction of the height bandwidth (0 = no integral).
+    pub height_integral_ratio: f64,
+    /// Speed loop natural frequency, proportional-integral (rad/s).
+    pub speed_bandwidth_rad_s: f64,
+    /// Speed loop damping ratio (-).
+    pub speed_damping: f64,
+    /// Largest pitch-attitude offset the speed and height loops may command (deg).
+    pub pitch_offset_limit_deg: f64,
+    /// Pitch-attitude offset that counts as one unit of control effort in the allocation (deg).
+    pub pitch_offset_scale_deg: f64,
+    /// Weight of the pitch channel against the force channels in the allocation (-).
+    pub pitch_priority: f64,
+    /// Steady headwind (m/s, positive against the direction of flight).
+    pub headwind_mps: f64,
+    /// Steady updraft (m/s, positive up).
+    pub updraft_mps: f64,
+    /// Optional discrete gust.
+    pub gust: Option<GustFile>,
+    /// A surface part counts for stall exposure only while its dynamic pressure times area is
+    /// at least this fraction of the weight (-).
+    pub stall_load_fraction: f64,
+    /// Tilt lagging its schedule by more than this is reported (deg).
+    pub tilt_lag_warning_deg: f64,
+}
+
+impl Default for FlightFile {
+    fn default() -> Self {
+        // Common practice, no source: loop bandwidths a factor of 3 to 4 apart (inner pitch loop
+        // fastest), damping ratios near 0.8.
+        FlightFile {
+            hold_before_s: 2.0,
+            hold_after_s: 8.0,
+            sample_step_s: 0.02,
+            relative_tolerance: 1e-6,
+            absolute_tolerance: 1e-6,
+            tilt_servo_bandwidth_rad_s: 8.0,
+            pitch_bandwidth_rad_s: 3.0,
+            pitch_damping: 0.8,
+            height_bandwidth_rad_s: 0.8,
+            height_damping: 0.9,
+            height_integral_ratio: 0.25,
+            speed_bandwidth_rad_s: 0.5,
+            speed_damping: 0.9,
+            pitch_offset_limit_deg: 20.0,
+            pitch_offset_scale_deg: 10.0,
+            pitch_priority: 10.0,
+            headwind_mps: 0.0,
+            updraft_mps: 0.0,
+            gust: None,
+            stall_load_fraction: 0.005,
+            tilt_lag_warning_deg: 5.0,
+        }
+    }
+}
+
+/// Direction of a discrete gust.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum GustDirection {
+    /// Air moving up (updraft).
+    #[default]
+    Up,
+    /// Air moving down.
+    Down,
+    /// Air moving against the direction of flight (headwind).
+    Head,
+    /// Air moving with the direction of flight (tailwind).
+    Tail,
+}
+
+/// Shape of a discrete gust.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Deserialize, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum GustShape {
+    /// 1-cosine up and back down over twice the gust length.
+    #[default]
+    Full,
+    /// MIL-F-8785C discrete gust: 1-cosine rise over the gust length, then held.
+    Ramp,
+}
+
+/// `[flight.gust]`: a 1-cosine discrete gust.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields)]
+pub struct GustFile {
+    /// Time the vehicle enters the gust (s from the start of the flight).
+    pub start_s: f64,
+    /// Direction of the air motion.
+    #[serde(default)]
+    pub direction: GustDirection,
+    /// Peak gust velocity (m/s, positive).
+    pub amplitude_mps: f64,
+    /// Gust length d_m: distance from the gust edge to the peak (m).
+    pub length_m: f64,
+    /// full (up and down) or ramp (MIL-F-8785C rise and hold).
+    #[serde(default)]
+    pub shape: GustShape,
+    /// Slowest penetration speed (m/s): at lower planned airspeed the gust passes at this speed,
+    /// standing for the motion of the gust front itself.
+    #[serde(default = "default_penetration")]
+    pub min_penetration_mps: f64,
+}
+
+fn default_penetration() -> f64 {
+    // Common practice, no source.
+    2.0
+}
+
 /// A schedule of the transition variable against airspeed, validated.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub enum Schedule {
@@ -271,7 +410,11 @@ fn finite(path: KeyPath, v: f64) -> Result<f64, Invalid> {
     if v.is_finite() {
         Ok(v)
     } else {
-        Err(Invalid::new(path, format!("{v} is not a finite number"), "write a plain decimal number"))
+        Err(Invalid::new(
+            path,
+            format!("{v} is not a finite number"),
+            "write a plain decimal number",
+        ))
     }
 }
 
@@ -317,12 +460,19 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
         }
     }
     if s.speed_mps[0] < 0.0 {
-        return Err(Invalid::new(p.key("speed_mps"), "negative airspeed in the table", "start at 0 m/s or above"));
+        return Err(Invalid::new(
+            p.key("speed_mps"),
+            "negative airspeed in the table",
+            "start at 0 m/s or above",
+        ));
     }
     let (lo, hi) = match s.mode {
-        ScheduleMode::Tilt => v.actuators.iter().fold((f64::NEG_INFINITY, f64::INFINITY), |(l, h), a| {
-            (l.max(a.min_rad.to_degrees()), h.min(a.max_rad.to_degrees()))
-        }),
+        ScheduleMode::Tilt => v
+            .actuators
+            .iter()
+            .fold((f64::NEG_INFINITY, f64::INFINITY), |(l, h), a| {
+                (l.max(a.min_rad.to_degrees()), h.min(a.max_rad.to_degrees()))
+            }),
         _ => (-30.0, 120.0),
     };
     for &y in &s.value_deg {
@@ -345,18 +495,34 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
     })
 }
 
-fn build(file: ScenarioFile, path: &Path, vehicle_path: PathBuf, base: Vehicle) -> Result<Scenario, Invalid> {
+fn build(
+    file: ScenarioFile,
+    path: &Path,
+    vehicle_path: PathBuf,
+    base: Vehicle,
+) -> Result<Scenario, Invalid> {
     let root = KeyPath::root();
     let ap = root.key("atmosphere");
     let alt = finite(ap.key("altitude_m"), file.atmosphere.altitude_m)?;
-    let dt = finite(ap.key("temperature_offset_k"), file.atmosphere.temperature_offset_k)?;
+    let dt = finite(
+        ap.key("temperature_offset_k"),
+        file.atmosphere.temperature_offset_k,
+    )?;
     if let Err(e) = crate::atmosphere::isa(alt, dt) {
-        return Err(Invalid::new(ap.key("altitude_m"), e.to_string(), "use an altitude within the troposphere (-500..11000 m)"));
+        return Err(Invalid::new(
+            ap.key("altitude_m"),
+            e.to_string(),
+            "use an altitude within the troposphere (-500..11000 m)",
+        ));
     }
     let mp = root.key("mass_case");
     if let Some(m) = file.mass_case.mass_kg {
         if !(m.is_finite() && m > 0.0) {
-            return Err(Invalid::new(mp.key("mass_kg"), format!("mass must be positive, got {m}"), "give the mass in kg or remove the key"));
+            return Err(Invalid::new(
+                mp.key("mass_kg"),
+                format!("mass must be positive, got {m}"),
+                "give the mass in kg or remove the key",
+            ));
         }
     }
     let shift = Point {
@@ -370,17 +536,33 @@ fn build(file: ScenarioFile, path: &Path, vehicle_path: PathBuf, base: Vehicle) 
     let to = finite(sp.key("to_mps"), file.sweep.to_mps)?;
     let step = finite(sp.key("step_mps"), file.sweep.step_mps)?;
     if from < 0.0 {
-        return Err(Invalid::new(sp.key("from_mps"), "negative airspeed", "start the sweep at 0 m/s (hover) or above"));
+        return Err(Invalid::new(
+            sp.key("from_mps"),
+            "negative airspeed",
+            "start the sweep at 0 m/s (hover) or above",
+        ));
     }
     if to < from {
-        return Err(Invalid::new(sp.key("to_mps"), format!("to_mps = {to} is below from_mps = {from}"), "swap the values"));
+        return Err(Invalid::new(
+            sp.key("to_mps"),
+            format!("to_mps = {to} is below from_mps = {from}"),
+            "swap the values",
+        ));
     }
     if step <= 0.0 {
-        return Err(Invalid::new(sp.key("step_mps"), "step must be positive", "give a step such as 1.0 m/s"));
+        return Err(Invalid::new(
+            sp.key("step_mps"),
+            "step must be positive",
+            "give a step such as 1.0 m/s",
+        ));
     }
     let n = ((to - from) / step + 1e-9).floor() as usize + 1;
     if n > 100_000 {
-        return Err(Invalid::new(sp.key("step_mps"), format!("the sweep would have {n} points"), "use a larger step (at most 100000 points)"));
+        return Err(Invalid::new(
+            sp.key("step_mps"),
+            format!("the sweep would have {n} points"),
+            "use a larger step (at most 100000 points)",
+        ));
     }
     let mut speeds: Vec<f64> = (0..n).map(|i| from + i as f64 * step).collect();
     if (to - speeds[n - 1]).abs() > 1e-9 * to.abs().max(1.0) {
@@ -388,7 +570,11 @@ fn build(file: ScenarioFile, path: &Path, vehicle_path: PathBuf, base: Vehicle) 
     }
     let climb = finite(sp.key("climb_deg"), file.sweep.climb_deg)?;
     if climb.abs() > 60.0 {
-        return Err(Invalid::new(sp.key("climb_deg"), "flight-path angle beyond 60 deg", "give climb_deg within -60..60"));
+        return Err(Invalid::new(
+            sp.key("climb_deg"),
+            "flight-path angle beyond 60 deg",
+            "give climb_deg within -60..60",
+        ));
     }
     let schedule = build_schedule(&file.schedule, &vehicle, &root.key("schedule"))?;
 
@@ -416,7 +602,11 @@ fn build(file: ScenarioFile, path: &Path, vehicle_path: PathBuf, base: Vehicle) 
     ] {
         let v = finite(trp.key(k), v)?;
         if v <= 0.0 {
-            return Err(Invalid::new(trp.key(k), "must be positive", "give a positive value"));
+            return Err(Invalid::new(
+                trp.key(k),
+                "must be positive",
+                "give a positive value",
+            ));
         }
     }
     Ok(Scenario {

@@ -109,6 +109,8 @@ pub struct SurfaceValue {
     pub lift_n: f64,
     /// Drag (N).
     pub drag_n: f64,
+    /// Whether the surface carries load (its stall counts).
+    pub loaded: bool,
 }
 
 /// Headline margins of a point (JSON `margins`).
@@ -229,7 +231,10 @@ pub struct SweepResult {
 pub fn schedule_at(v: &Vehicle, schedule: &Schedule, speed_mps: f64) -> (TiltSetting, Option<f64>) {
     match schedule {
         Schedule::Free => (TiltSetting::Free, None),
-        Schedule::Tilt(t) => (TiltSetting::Fixed(vec![t.at(speed_mps); v.actuators.len()]), None),
+        Schedule::Tilt(t) => (
+            TiltSetting::Fixed(vec![t.at(speed_mps); v.actuators.len()]),
+            None,
+        ),
         Schedule::Pitch(t) => (TiltSetting::Free, Some(t.at(speed_mps))),
     }
 }
@@ -331,6 +336,7 @@ pub fn assess(
             stall_neg_deg: s.stall_neg_deg,
             lift_n: s.lift_n,
             drag_n: s.drag_n,
+            loaded: s.loaded,
         })
         .collect();
     let (reasons, kinds) = unsafe_reasons(&m, th);
@@ -394,7 +400,7 @@ fn actuator_values(v: &Vehicle, sol: &TrimSolution, m: &Margins) -> Vec<Actuator
 pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>) {
     let mut r = Vec::new();
     let mut k = Vec::new();
-    for s in &m.surfaces {
+    for s in m.surfaces.iter().filter(|s| s.loaded) {
         if s.stall_margin_deg < 0.0 {
             r.push(format!(
                 "'{}' stalled ({} at alpha {:.1} deg; stall at {:.1} / {:.1} deg)",
@@ -434,7 +440,10 @@ pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>
             k.push(format!("vortex ring of '{}'", g.name));
         }
     }
-    for (dir, val) in [("nose-up", m.pitch_accel_up_rad_s2), ("nose-down", m.pitch_accel_down_rad_s2)] {
+    for (dir, val) in [
+        ("nose-up", m.pitch_accel_up_rad_s2),
+        ("nose-down", m.pitch_accel_down_rad_s2),
+    ] {
         if val < th.pitch_accel_rad_s2 {
             r.push(format!(
                 "{dir} pitch authority {val:.2} rad/s^2 (threshold {:.2})",
@@ -570,7 +579,7 @@ fn stall_exposure(v: &Vehicle, points: &[PointReport], th: &Thresholds) -> Vec<S
             let margin = |p: &PointReport| {
                 p.surfaces
                     .iter()
-                    .find(|s| s.name == name)
+                    .find(|s| s.name == name && s.loaded)
                     .map(|s| (s.stall_margin_deg, s.critical_part.clone()))
             };
             let stalled: Vec<Vec<String>> = points
@@ -583,7 +592,10 @@ fn stall_exposure(v: &Vehicle, points: &[PointReport], th: &Thresholds) -> Vec<S
             let near: Vec<Vec<String>> = points
                 .iter()
                 .map(|p| match margin(p) {
-                    Some((m, part)) if m < th.stall_margin_deg => vec![format!("margin below {:.1} deg ({part})", th.stall_margin_deg)],
+                    Some((m, part)) if m < th.stall_margin_deg => vec![format!(
+                        "margin below {:.1} deg ({part})",
+                        th.stall_margin_deg
+                    )],
                     _ => vec![],
                 })
                 .collect();

@@ -21,7 +21,10 @@
 //! Several starts are tried where branches exist; a point that does not converge is reported
 //! as untrimmable with the limits that were active, never as a number.
 
-use crate::atmosphere::{Atmosphere, G0_MPS2};
+// The numerical kernels below index several fixed arrays with one loop variable.
+#![allow(clippy::needless_range_loop)]
+
+use crate::atmosphere::Atmosphere;
 use crate::dynamics::{evaluate, Controls, Evaluation, State, Wind};
 use crate::rotor;
 use crate::vehicle::Vehicle;
@@ -208,7 +211,11 @@ impl<'a> Problem<'a> {
         let weight = v.weight_n();
         let moment_scale = weight * v.reference.chord_m.max(0.05);
         // Ideal hover power of the whole vehicle on all rotor discs, as a power scale.
-        let area: f64 = v.rotors.iter().map(|r| r.count as f64 * r.disk_area_m2()).sum();
+        let area: f64 = v
+            .rotors
+            .iter()
+            .map(|r| r.count as f64 * r.disk_area_m2())
+            .sum();
         let power_scale = weight * (weight / (2.0 * atm.density_kg_m3 * area)).sqrt();
         Problem {
             v,
@@ -302,13 +309,14 @@ fn norm_inf(r: &[f64; 3], m: usize) -> f64 {
     r[..m].iter().fold(0.0, |a, &b| a.max(b.abs()))
 }
 
-/// Smallest stall margin (rad) over all surface parts with area, positive when unstalled.
+/// Smallest stall margin (rad) over all loaded surface parts, positive when unstalled.
 pub fn smallest_stall_margin_rad(v: &Vehicle, e: &Evaluation) -> f64 {
     let mut best = f64::INFINITY;
+    let w = v.weight_n();
     for (i, s) in v.surfaces.iter().enumerate() {
         let (pos, neg) = s.polar.stall_angles_rad();
         for p in e.surface_parts(i) {
-            if p.fraction > 0.0 && p.dynamic_pressure_pa > 0.0 {
+            if crate::margins::part_is_loaded(p, s.area_m2, w) {
                 best = best.min((pos - p.alpha_rad).min(p.alpha_rad - neg));
             }
         }
@@ -355,7 +363,13 @@ fn jacobian(
 }
 
 /// Solve (J J^T + lambda I) y = b for the m x m system (m <= 3), padded with identity.
-fn solve_normal(jac: &[[f64; MAX_UNKNOWNS]; 3], n: usize, m: usize, lambda: f64, b: [f64; 3]) -> Option<[f64; 3]> {
+fn solve_normal(
+    jac: &[[f64; MAX_UNKNOWNS]; 3],
+    n: usize,
+    m: usize,
+    lambda: f64,
+    b: [f64; 3],
+) -> Option<[f64; 3]> {
     let mut a = nalgebra::Matrix3::<f64>::identity();
     for i in 0..m {
         for k in 0..m {
@@ -498,7 +512,10 @@ fn optimise_gradient(p: &mut Problem, z: &mut [f64], f: &mut Point3, max_outer: 
         // Projected gradient d = -(g - J^T (J J^T)^-1 J g) on the free set.
         let mut jg = [0.0; 3];
         for (i, v) in jg.iter_mut().enumerate().take(m) {
-            *v = (0..n).filter(|&j| free[j]).map(|j| jac[i][j] * grad[j]).sum();
+            *v = (0..n)
+                .filter(|&j| free[j])
+                .map(|j| jac[i][j] * grad[j])
+                .sum();
         }
         let Some(y) = solve_normal(&jac, n, m, 1e-12, jg) else {
             break;
@@ -556,7 +573,11 @@ fn optimise_nelder_mead(p: &mut Problem, z: &mut [f64], f: &mut Point3) -> usize
     let full = jm.transpose() * &jm;
     let eig = full.symmetric_eigen();
     let mut idx: Vec<usize> = (0..n).collect();
-    idx.sort_by(|&a, &b| eig.eigenvalues[a].partial_cmp(&eig.eigenvalues[b]).unwrap_or(std::cmp::Ordering::Equal));
+    idx.sort_by(|&a, &b| {
+        eig.eigenvalues[a]
+            .partial_cmp(&eig.eigenvalues[b])
+            .unwrap_or(std::cmp::Ordering::Equal)
+    });
     let basis: Vec<Vec<f64>> = idx[..dim]
         .iter()
         .map(|&k| eig.eigenvectors.column(k).iter().copied().collect())
@@ -583,7 +604,11 @@ fn optimise_nelder_mead(p: &mut Problem, z: &mut [f64], f: &mut Point3) -> usize
                 z[j] = z[j].clamp(p.lo[j], p.hi[j]);
             }
             let (ok, _, f) = restore(&mut p, &mut z, 10);
-            Ok(if ok { f.objective } else { 1e3 + norm_inf(&f.r, p.m()) })
+            Ok(if ok {
+                f.objective
+            } else {
+                1e3 + norm_inf(&f.r, p.m())
+            })
         }
     }
     let z0 = z[..n].to_vec();
@@ -686,7 +711,8 @@ pub fn cold_guesses(v: &Vehicle, req: &TrimRequest) -> Vec<TrimGuess> {
         thetas.insert(0, h);
     }
     // Attitudes that point the mean rotor axis up (tail-sitters in hover and transition).
-    let mean_axis: f64 = v.rotors.iter().map(|r| r.mounting_rad).sum::<f64>() / v.rotors.len() as f64;
+    let mean_axis: f64 =
+        v.rotors.iter().map(|r| r.mounting_rad).sum::<f64>() / v.rotors.len() as f64;
     if v.actuators.is_empty() && mean_axis.abs() < 0.5 {
         for deg in [85.0f64, 60.0, 35.0, 15.0] {
             thetas.push(deg.to_radians());
@@ -753,7 +779,10 @@ pub fn trim(
             let (ok, it, mut f) = restore(&mut p, &mut z, 40);
             iterations += it;
             if !ok {
-                if best.as_ref().is_none_or(|b| norm_inf(&b.1.r, b.1.m) > RESIDUAL_TOL && norm_inf(&f.r, f.m) < norm_inf(&b.1.r, b.1.m)) {
+                if best.as_ref().is_none_or(|b| {
+                    norm_inf(&b.1.r, b.1.m) > RESIDUAL_TOL
+                        && norm_inf(&f.r, f.m) < norm_inf(&b.1.r, b.1.m)
+                }) {
                     best = Some((z, f, power_caps.clone()));
                 }
                 break;
@@ -787,7 +816,11 @@ pub fn trim(
                 continue;
             }
             let feasible_power = !capped;
-            let score = if feasible_power { f.objective } else { f64::INFINITY };
+            let score = if feasible_power {
+                f.objective
+            } else {
+                f64::INFINITY
+            };
             let better = match &best {
                 None => true,
                 Some((_, bf, _)) => {
@@ -795,9 +828,7 @@ pub fn trim(
                     !b_ok || score < bf.objective - 1e-9
                 }
             };
-            if better && feasible_power {
-                best = Some((z, f, power_caps.clone()));
-            } else if best.is_none() {
+            if (better && feasible_power) || best.is_none() {
                 best = Some((z, f, power_caps.clone()));
             }
             break;
@@ -839,10 +870,24 @@ pub fn trim(
         active_limits: active,
         state,
         controls,
-        residual_x_n: m * d[0] - if req.condition == Condition::HeldPitch { m * path_accel * alpha.cos() } else { 0.0 },
-        residual_z_n: m * d[1] - if req.condition == Condition::HeldPitch { m * path_accel * alpha.sin() } else { 0.0 },
+        residual_x_n: m * d[0]
+            - if req.condition == Condition::HeldPitch {
+                m * path_accel * alpha.cos()
+            } else {
+                0.0
+            },
+        residual_z_n: m * d[1]
+            - if req.condition == Condition::HeldPitch {
+                m * path_accel * alpha.sin()
+            } else {
+                0.0
+            },
         residual_m_nm: v.pitch_inertia_kg_m2 * d[2],
-        path_accel_mps2: if req.condition == Condition::HeldPitch { path_accel } else { 0.0 },
+        path_accel_mps2: if req.condition == Condition::HeldPitch {
+            path_accel
+        } else {
+            0.0
+        },
         objective_value: match req.objective {
             Objective::Power => p.eval.power_w,
             Objective::StallMargin => smallest_stall_margin_rad(v, &p.eval).to_degrees(),
@@ -862,14 +907,23 @@ fn power_ok(v: &Vehicle, e: &Evaluation) -> bool {
 
 fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: &[Option<f64>]) -> String {
     match kind {
-        UnknownKind::Pitch => format!("pitch attitude at its {} search bound", if at_hi { "upper" } else { "lower" }),
+        UnknownKind::Pitch => format!(
+            "pitch attitude at its {} search bound",
+            if at_hi { "upper" } else { "lower" }
+        ),
         UnknownKind::Thrust(g) => {
             let r = &v.rotors[g];
             if at_hi {
                 if caps[g].is_some() {
-                    format!("power of rotor group '{}' ({:.0} W per rotor)", r.name, r.power_max_w)
+                    format!(
+                        "power of rotor group '{}' ({:.0} W per rotor)",
+                        r.name, r.power_max_w
+                    )
                 } else {
-                    format!("thrust cap of rotor group '{}' ({:.0} N per rotor)", r.name, r.thrust_max_n)
+                    format!(
+                        "thrust cap of rotor group '{}' ({:.0} N per rotor)",
+                        r.name, r.thrust_max_n
+                    )
                 }
             } else {
                 format!("rotor group '{}' at zero thrust", r.name)
@@ -880,7 +934,11 @@ fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: &[Option<f64>])
             format!(
                 "elevator '{}' at its {} limit ({:.1} deg)",
                 el.name,
-                if at_hi { "trailing-edge-down" } else { "trailing-edge-up" },
+                if at_hi {
+                    "trailing-edge-down"
+                } else {
+                    "trailing-edge-up"
+                },
                 if at_hi { el.max_rad } else { el.min_rad }.to_degrees()
             )
         }
@@ -905,7 +963,15 @@ fn untrimmable_reasons(v: &Vehicle, p: &Problem, f: &Point3, active: &[String]) 
     let mut worst = Vec::new();
     for (i, l) in labels.iter().enumerate() {
         if f.r[i].abs() >= RESIDUAL_TOL {
-            worst.push(format!("{l} unbalanced by {:.3} % of weight{}", 100.0 * f.r[i].abs(), if i == labels.len() - 1 { " x chord" } else { "" }));
+            worst.push(format!(
+                "{l} unbalanced by {:.3} % of weight{}",
+                100.0 * f.r[i].abs(),
+                if i == labels.len() - 1 {
+                    " x chord"
+                } else {
+                    ""
+                }
+            ));
         }
     }
     if !active.is_empty() {
@@ -945,13 +1011,13 @@ fn untrimmable_reasons(v: &Vehicle, p: &Problem, f: &Point3, active: &[String]) 
         }
     }
     if !worst.is_empty() {
-        out.push(format!("no equilibrium in the closest attempt: {}", worst.join(", ")));
+        out.push(format!(
+            "no equilibrium in the closest attempt: {}",
+            worst.join(", ")
+        ));
     }
     if out.is_empty() {
         out.push("the solver did not converge from any start".to_string());
     }
     out
 }
-
-/// Gravity used by the trim conditions (m/s^2).
-pub const GRAVITY_MPS2: f64 = G0_MPS2;

@@ -90,7 +90,10 @@ fn print_json<T: serde::Serialize>(v: &T) -> Result<(), CliError> {
 }
 
 /// An atmosphere from flags, with the flag named in errors.
-fn atmosphere(altitude_m: f64, offset_k: f64) -> Result<hoverline::atmosphere::Atmosphere, CliError> {
+fn atmosphere(
+    altitude_m: f64,
+    offset_k: f64,
+) -> Result<hoverline::atmosphere::Atmosphere, CliError> {
     hoverline::atmosphere::isa(altitude_m, offset_k)
         .map_err(|e| CliError::Usage(format!("--altitude-m / --temperature-offset-k: {e}")))
 }

@@ -28,8 +28,11 @@ pub fn run(a: SweepArgs) -> Result<(), CliError> {
     if let Some(f) = &a.schedule {
         sc.schedule = load_schedule_file(f, &sc.vehicle)?;
     }
-    let atm = hoverline::atmosphere::isa(sc.file.atmosphere.altitude_m, sc.file.atmosphere.temperature_offset_k)
-        .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let atm = hoverline::atmosphere::isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
     let settings = SweepSettings {
         speeds_mps: sc.speeds_mps.clone(),
         climb_rad: sc.climb_rad,

@@ -60,17 +60,27 @@ impl From<ObjectiveArg> for Objective {
 /// Run `trim`.
 pub fn run(a: TrimArgs) -> Result<(), CliError> {
     if !(a.speed.is_finite() && a.speed >= 0.0) {
-        return Err(CliError::Usage(format!("--speed {} must be a non-negative number of m/s", a.speed)));
+        return Err(CliError::Usage(format!(
+            "--speed {} must be a non-negative number of m/s",
+            a.speed
+        )));
     }
     if !a.climb_deg.is_finite() || a.climb_deg.abs() > 60.0 {
-        return Err(CliError::Usage("--climb-deg must lie within -60..60".into()));
+        return Err(CliError::Usage(
+            "--climb-deg must lie within -60..60".into(),
+        ));
     }
     let v = load_vehicle(&a.vehicle)?;
     let atm = atmosphere(a.altitude_m, a.temperature_offset_k)?;
     let tilt = match a.tilt_deg {
-        Some(t) if !t.is_finite() => return Err(CliError::Usage("--tilt-deg must be a number".into())),
+        Some(t) if !t.is_finite() => {
+            return Err(CliError::Usage("--tilt-deg must be a number".into()))
+        }
         Some(_) if v.actuators.is_empty() => {
-            return Err(CliError::Usage(format!("vehicle '{}' has no tilt actuator; drop --tilt-deg", v.name)))
+            return Err(CliError::Usage(format!(
+                "vehicle '{}' has no tilt actuator; drop --tilt-deg",
+                v.name
+            )))
         }
         Some(t) => {
             for act in &v.actuators {

@@ -29,9 +29,15 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         path: path.to_path_buf(),
         source,
     };
-    let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let dir = path
+        .parent()
+        .filter(|p| !p.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
     ensure_dir(dir)?;
-    let name = path.file_name().map(|n| n.to_string_lossy().to_string()).unwrap_or_default();
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp{}", std::process::id()));
     let mut f = std::fs::File::create(&tmp).map_err(err)?;
     f.write_all(bytes).map_err(err)?;
@@ -81,7 +87,11 @@ mod tests {
         write_atomic(&p, b"first").unwrap();
         write_atomic(&p, b"second").unwrap();
         assert_eq!(std::fs::read_to_string(&p).unwrap(), "second");
-        let leftovers: Vec<_> = std::fs::read_dir(&dir).unwrap().filter_map(|e| e.ok()).filter(|e| e.file_name().to_string_lossy().contains(".tmp")).collect();
+        let leftovers: Vec<_> = std::fs::read_dir(&dir)
+            .unwrap()
+            .filter_map(|e| e.ok())
+            .filter(|e| e.file_name().to_string_lossy().contains(".tmp"))
+            .collect();
         assert!(leftovers.is_empty());
         std::fs::remove_dir_all(&dir).unwrap();
     }

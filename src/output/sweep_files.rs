@@ -16,13 +16,22 @@ fn num(v: Option<f64>) -> String {
     }
 }
 
+/// Column groups of the trim table: actuators (kind, name, unit), rotor groups, surfaces.
+type Columns = (Vec<(String, String, String)>, Vec<String>, Vec<String>);
+
 /// Header and rows of `trim.csv`.
 pub fn trim_table(points: &[PointReport]) -> (Vec<String>, Vec<Vec<String>>) {
     let first = points.iter().find(|p| p.trimmed);
-    let mut h: Vec<String> = ["speed_mps", "trimmed", "pitch_deg", "alpha_deg"].iter().map(|s| s.to_string()).collect();
-    let (acts, rotors, surfs): (Vec<(String, String, String)>, Vec<String>, Vec<String>) = match first {
+    let mut h: Vec<String> = ["speed_mps", "trimmed", "pitch_deg", "alpha_deg"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let (acts, rotors, surfs): Columns = match first {
         Some(p) => (
-            p.actuators.iter().map(|a| (a.kind.clone(), a.name.clone(), a.unit.to_lowercase())).collect(),
+            p.actuators
+                .iter()
+                .map(|a| (a.kind.clone(), a.name.clone(), a.unit.to_lowercase()))
+                .collect(),
             p.rotors.iter().map(|r| r.name.clone()).collect(),
             p.surfaces.iter().map(|s| s.name.clone()).collect(),
         ),
@@ -60,9 +69,18 @@ pub fn trim_table(points: &[PointReport]) -> (Vec<String>, Vec<Vec<String>>) {
     let rows = points
         .iter()
         .map(|p| {
-            let mut r = vec![format!("{:.4}", p.speed_mps), p.trimmed.to_string(), num(p.pitch_deg), num(p.alpha_deg)];
+            let mut r = vec![
+                format!("{:.4}", p.speed_mps),
+                p.trimmed.to_string(),
+                num(p.pitch_deg),
+                num(p.alpha_deg),
+            ];
             for (k, n, _) in &acts {
-                r.push(num(p.actuators.iter().find(|a| &a.kind == k && &a.name == n).map(|a| a.value)));
+                r.push(num(p
+                    .actuators
+                    .iter()
+                    .find(|a| &a.kind == k && &a.name == n)
+                    .map(|a| a.value)));
             }
             for name in &rotors {
                 let g = p.rotors.iter().find(|g| &g.name == name);

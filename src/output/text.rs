@@ -17,20 +17,50 @@ fn opt(v: Option<f64>, digits: usize) -> String {
 pub fn check(s: &Summary) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "vehicle: {}", s.name);
-    let _ = writeln!(o, "  mass {:.2} kg, weight {:.1} N, pitch inertia {:.3} kg m^2", s.mass_kg, s.weight_n, s.pitch_inertia_kg_m2);
+    let _ = writeln!(
+        o,
+        "  mass {:.2} kg, weight {:.1} N, pitch inertia {:.3} kg m^2",
+        s.mass_kg, s.weight_n, s.pitch_inertia_kg_m2
+    );
     let _ = writeln!(o, "  air density {:.4} kg/m^3", s.density_kg_m3);
-    let _ = writeln!(o, "  hover thrust-to-weight {:.2}", s.hover_thrust_to_weight);
-    let _ = writeln!(o, "  disc loading {:.1} N/m^2, ideal hover power {:.0} W", s.disk_loading_n_m2, s.ideal_hover_power_w);
+    let _ = writeln!(
+        o,
+        "  hover thrust-to-weight {:.2}",
+        s.hover_thrust_to_weight
+    );
+    let _ = writeln!(
+        o,
+        "  disc loading {:.1} N/m^2, ideal hover power {:.0} W",
+        s.disk_loading_n_m2, s.ideal_hover_power_w
+    );
     let _ = writeln!(o, "  wing loading {:.1} N/m^2", s.wing_loading_n_m2);
-    let _ = writeln!(o, "  wingborne stall speed {} m/s", opt(s.stall_speed_mps, 1));
+    let _ = writeln!(
+        o,
+        "  wingborne stall speed {} m/s",
+        opt(s.stall_speed_mps, 1)
+    );
     let _ = writeln!(
         o,
         "  static margin, cruise configuration: {} % chord{}",
         opt(s.static_margin_pct, 1),
-        s.static_margin_speed_mps.map(|v| format!(" (at {v:.1} m/s)")).unwrap_or_default()
+        s.static_margin_speed_mps
+            .map(|v| format!(" (at {v:.1} m/s)"))
+            .unwrap_or_default()
     );
     let _ = writeln!(o, "\nsurfaces:");
-    let _ = writeln!(o, "  {:<16} {:>6} {:>8} {:>6} {:>11} {:>9} {:>9} {:>7} {:>8}", "name", "role", "area_m2", "AR", "a_per_rad", "stall+deg", "stall-deg", "cl_max", "immersed");
+    let _ = writeln!(
+        o,
+        "  {:<16} {:>6} {:>8} {:>6} {:>11} {:>9} {:>9} {:>7} {:>8}",
+        "name",
+        "role",
+        "area_m2",
+        "AR",
+        "a_per_rad",
+        "stall+deg",
+        "stall-deg",
+        "cl_max",
+        "immersed"
+    );
     for x in &s.surfaces {
         let _ = writeln!(
             o,
@@ -47,9 +77,17 @@ pub fn check(s: &Summary) -> String {
         );
     }
     let _ = writeln!(o, "\nrotor groups:");
-    let _ = writeln!(o, "  {:<16} {:>5} {:>12} {:>16} {:>18}", "name", "count", "thrust_max_n", "hover_avail_n", "disk_load_cap_n_m2");
+    let _ = writeln!(
+        o,
+        "  {:<16} {:>5} {:>12} {:>16} {:>18}",
+        "name", "count", "thrust_max_n", "hover_avail_n", "disk_load_cap_n_m2"
+    );
     for r in &s.rotors {
-        let _ = writeln!(o, "  {:<16} {:>5} {:>12.1} {:>16.1} {:>18.1}", r.name, r.count, r.thrust_max_n, r.hover_thrust_available_n, r.disk_loading_at_cap_n_m2);
+        let _ = writeln!(
+            o,
+            "  {:<16} {:>5} {:>12.1} {:>16.1} {:>18.1}",
+            r.name, r.count, r.thrust_max_n, r.hover_thrust_available_n, r.disk_loading_at_cap_n_m2
+        );
     }
     if s.warnings.is_empty() {
         let _ = writeln!(o, "\nwarnings: none");
@@ -91,13 +129,21 @@ pub fn point(p: &PointReport) -> String {
     );
     let _ = writeln!(o, "\ncontrols:");
     for a in &p.actuators {
-        let _ = writeln!(o, "  {:<10} {:<16} {:>9.2} {:<3} (limits {:.1} .. {:.1})", a.kind, a.name, a.value, a.unit, a.min, a.max);
+        let _ = writeln!(
+            o,
+            "  {:<10} {:<16} {:>9.2} {:<3} (limits {:.1} .. {:.1})",
+            a.kind, a.name, a.value, a.unit, a.min, a.max
+        );
     }
     if !p.active_limits.is_empty() {
         let _ = writeln!(o, "  active limits: {}", p.active_limits.join("; "));
     }
     let _ = writeln!(o, "\nrotor groups:");
-    let _ = writeln!(o, "  {:<16} {:>9} {:>8} {:>9} {:>8} {:>8} {:>7}", "name", "thrust_n", "axis_deg", "power_w", "T_marg", "P_marg", "v_i_mps");
+    let _ = writeln!(
+        o,
+        "  {:<16} {:>9} {:>8} {:>9} {:>8} {:>8} {:>7}",
+        "name", "thrust_n", "axis_deg", "power_w", "T_marg", "P_marg", "v_i_mps"
+    );
     for r in &p.rotors {
         let _ = writeln!(
             o,
@@ -112,22 +158,53 @@ pub fn point(p: &PointReport) -> String {
         );
     }
     let _ = writeln!(o, "\nsurfaces:");
-    let _ = writeln!(o, "  {:<16} {:>9} {:>10} {:>10} {:>9} {:>9}  critical part", "name", "alpha_deg", "crit_alpha", "margin_deg", "lift_n", "drag_n");
+    let _ = writeln!(
+        o,
+        "  {:<16} {:>9} {:>10} {:>10} {:>9} {:>9}  critical part",
+        "name", "alpha_deg", "crit_alpha", "margin_deg", "lift_n", "drag_n"
+    );
     for s in &p.surfaces {
         let _ = writeln!(
             o,
             "  {:<16} {:>9.2} {:>10.2} {:>10.2} {:>9.1} {:>9.1}  {}",
-            s.name, s.alpha_deg, s.critical_alpha_deg, s.stall_margin_deg, s.lift_n, s.drag_n, s.critical_part
+            s.name,
+            s.alpha_deg,
+            s.critical_alpha_deg,
+            s.stall_margin_deg,
+            s.lift_n,
+            s.drag_n,
+            s.critical_part
         );
     }
     if let Some(m) = &p.margins {
         let _ = writeln!(o, "\nmargins:");
-        let _ = writeln!(o, "  stall {:.2} deg ({}), thrust {:.0} %, power {:.0} %", m.stall_deg, m.stall_surface, 100.0 * m.thrust, 100.0 * m.power);
-        let _ = writeln!(o, "  pitch authority nose-up {:.2} rad/s^2, nose-down {:.2} rad/s^2", m.pitch_accel_up_rad_s2, m.pitch_accel_down_rad_s2);
-        let _ = writeln!(o, "  elevator travel left {} deg, static margin {} % chord, lift share {:.0} %", opt(m.elevator_deg, 1), opt(m.static_margin_pct, 1), 100.0 * m.lift_share);
+        let _ = writeln!(
+            o,
+            "  stall {:.2} deg ({}), thrust {:.0} %, power {:.0} %",
+            m.stall_deg,
+            m.stall_surface,
+            100.0 * m.thrust,
+            100.0 * m.power
+        );
+        let _ = writeln!(
+            o,
+            "  pitch authority nose-up {:.2} rad/s^2, nose-down {:.2} rad/s^2",
+            m.pitch_accel_up_rad_s2, m.pitch_accel_down_rad_s2
+        );
+        let _ = writeln!(
+            o,
+            "  elevator travel left {} deg, static margin {} % chord, lift share {:.0} %",
+            opt(m.elevator_deg, 1),
+            opt(m.static_margin_pct, 1),
+            100.0 * m.lift_share
+        );
     }
     let _ = writeln!(o, "\nmodes:");
-    let _ = writeln!(o, "  {:<28} {:>10} {:>10} {:>9} {:>8} {:>9} {:>9} {:>9}", "name", "real_1/s", "imag_rad/s", "wn_rad/s", "zeta", "period_s", "t_half_s", "t_dbl_s");
+    let _ = writeln!(
+        o,
+        "  {:<28} {:>10} {:>10} {:>9} {:>8} {:>9} {:>9} {:>9}",
+        "name", "real_1/s", "imag_rad/s", "wn_rad/s", "zeta", "period_s", "t_half_s", "t_dbl_s"
+    );
     for m in &p.modes {
         let _ = writeln!(
             o,
@@ -140,7 +217,9 @@ pub fn point(p: &PointReport) -> String {
             opt(m.period_s, 2),
             opt(m.time_to_half_s, 2),
             opt(m.time_to_double_s, 2),
-            m.level_8785c.map(|l| format!("  (MIL-F-8785C level {l}, indication only)")).unwrap_or_default()
+            m.level_8785c
+                .map(|l| format!("  (MIL-F-8785C level {l}, indication only)"))
+                .unwrap_or_default()
         );
     }
     if !p.reasons.is_empty() {
@@ -159,8 +238,8 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
     let _ = writeln!(o, "sweep: {name}");
     let _ = writeln!(
         o,
-        "  {:>6} {:>4} {:>7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>7} {:>8}  {}",
-        "V_mps", "ok", "pitch", "alpha", "stall_d", "thrust%", "power%", "q+", "q-", "maxRe", "worst surface / reasons"
+        "  {:>6} {:>4} {:>7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>7} {:>8}  worst surface / reasons",
+        "V_mps", "ok", "pitch", "alpha", "stall_d", "thrust%", "power%", "q+", "q-", "maxRe"
     );
     for p in &r.points {
         match &p.margins {
@@ -183,7 +262,13 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
                 );
             }
             None => {
-                let _ = writeln!(o, "  {:>6.1} {:>4}  untrimmable: {}", p.speed_mps, "no", p.reasons.join("; "));
+                let _ = writeln!(
+                    o,
+                    "  {:>6.1} {:>4}  untrimmable: {}",
+                    p.speed_mps,
+                    "no",
+                    p.reasons.join("; ")
+                );
             }
         }
     }
@@ -192,7 +277,13 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
         let _ = writeln!(o, "  none");
     }
     for b in &r.bands {
-        let _ = writeln!(o, "  {:>5.1} .. {:>5.1} m/s: {}", b.from_mps, b.to_mps, b.reasons.join(", "));
+        let _ = writeln!(
+            o,
+            "  {:>5.1} .. {:>5.1} m/s: {}",
+            b.from_mps,
+            b.to_mps,
+            b.reasons.join(", ")
+        );
     }
     let _ = writeln!(o, "\nstall exposure:");
     for s in &r.stall_exposure {
@@ -200,10 +291,20 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
             if bands.is_empty() {
                 "none".to_string()
             } else {
-                bands.iter().map(|b| format!("{:.1}..{:.1}", b.from_mps, b.to_mps)).collect::<Vec<_>>().join(", ")
+                bands
+                    .iter()
+                    .map(|b| format!("{:.1}..{:.1}", b.from_mps, b.to_mps))
+                    .collect::<Vec<_>>()
+                    .join(", ")
             }
         };
-        let _ = writeln!(o, "  {:<16} stalled: {} m/s; near stall: {} m/s", s.surface, fmt(&s.stalled), fmt(&s.near_stall));
+        let _ = writeln!(
+            o,
+            "  {:<16} stalled: {} m/s; near stall: {} m/s",
+            s.surface,
+            fmt(&s.stalled),
+            fmt(&s.near_stall)
+        );
     }
     let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
     o

@@ -14,8 +14,8 @@ use super::{
     SurfaceRole, TiltActuator, Vehicle,
 };
 use crate::aero::{
-    helmbold_lift_slope, lifting_line_lift_slope, viterna_cd_max, LiftSlopeMethod,
-    ParametricPolar, ParametricSpec, Polar, TablePolar,
+    helmbold_lift_slope, lifting_line_lift_slope, viterna_cd_max, LiftSlopeMethod, ParametricPolar,
+    ParametricSpec, Polar, TablePolar,
 };
 use crate::input::{InputError, Invalid, KeyPath};
 use crate::rotor::PowerModel;
@@ -661,7 +661,13 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
             (None, None) => None,
         };
         let elevator = match &s.elevator {
-            Some(e) => Some(elevator(e, true, &p.key("elevator"), &mut elev_names, &mut elevators)?),
+            Some(e) => Some(elevator(
+                e,
+                true,
+                &p.key("elevator"),
+                &mut elev_names,
+                &mut elevators,
+            )?),
             None => None,
         };
         let mut slipstream = Vec::new();
@@ -735,12 +741,7 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
     }
 
     let derivatives = match &f.derivatives {
-        Some(d) => Some(build_derivatives(
-            d,
-            cg,
-            &mut elev_names,
-            &mut elevators,
-        )?),
+        Some(d) => Some(build_derivatives(d, cg, &mut elev_names, &mut elevators)?),
         None => None,
     };
 
@@ -829,7 +830,13 @@ fn build_derivatives(
         ));
     }
     let elevator = match &d.elevator {
-        Some(e) => Some(elevator(e, false, &p.key("elevator"), elev_names, elevators)?),
+        Some(e) => Some(elevator(
+            e,
+            false,
+            &p.key("elevator"),
+            elev_names,
+            elevators,
+        )?),
         None => None,
     };
     Ok(DerivativeModel {
@@ -844,7 +851,13 @@ fn build_derivatives(
         cl_q: d.cl_q_per_rad,
         cl_alphadot: d.cl_alphadot_per_rad,
         cl_elevator: d.cl_elevator_per_rad,
-        cd0: c.range("cd0", d.cd0, 0.0, 2.0, "zero-lift drag coefficient, 0.01..0.1")?,
+        cd0: c.range(
+            "cd0",
+            d.cd0,
+            0.0,
+            2.0,
+            "zero-lift drag coefficient, 0.01..0.1",
+        )?,
         cd_alpha: d.cd_alpha_per_rad,
         cd_k: d.cd_k,
         cm0: d.cm0,
@@ -898,7 +911,11 @@ fn build_polar(
             let sn = c.range("stall_neg_deg", *stall_neg_deg, -90.0, 0.0, stall_hint)?;
             if sp < 1.0 || sn > -1.0 {
                 return Err(bad(
-                    p.key(if sp < 1.0 { "stall_pos_deg" } else { "stall_neg_deg" }),
+                    p.key(if sp < 1.0 {
+                        "stall_pos_deg"
+                    } else {
+                        "stall_neg_deg"
+                    }),
                     "stall angle closer than 1 deg to zero",
                     stall_hint,
                 ));

@@ -270,8 +270,16 @@ impl Vehicle {
     pub fn input_names(&self) -> Vec<String> {
         let mut v = Vec::with_capacity(self.control_count());
         v.extend(self.rotors.iter().map(|r| format!("thrust_{}_n", r.name)));
-        v.extend(self.elevators.iter().map(|e| format!("elevator_{}_rad", e.name)));
-        v.extend(self.actuators.iter().map(|a| format!("tilt_{}_rad", a.name)));
+        v.extend(
+            self.elevators
+                .iter()
+                .map(|e| format!("elevator_{}_rad", e.name)),
+        );
+        v.extend(
+            self.actuators
+                .iter()
+                .map(|a| format!("tilt_{}_rad", a.name)),
+        );
         v
     }
 

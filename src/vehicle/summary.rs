@@ -95,7 +95,10 @@ pub struct Summary {
 /// Tilt of every actuator at its hover end (the limit nearest 90 deg).
 fn hover_tilt(v: &Vehicle) -> Vec<f64> {
     let h = std::f64::consts::FRAC_PI_2;
-    v.actuators.iter().map(|a| h.clamp(a.min_rad, a.max_rad)).collect()
+    v.actuators
+        .iter()
+        .map(|a| h.clamp(a.min_rad, a.max_rad))
+        .collect()
 }
 
 /// Summarise a vehicle in the given atmosphere.
@@ -112,8 +115,15 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
         let axis = v.rotor_axis_rad(g, &tilt_h);
         let up = axis.sin();
         let a = r.disk_area_m2();
-        let t_avail =
-            crate::rotor::thrust_available(r.thrust_max_n, r.power_max_w, rho, a, 0.0, 0.0, r.power_model);
+        let t_avail = crate::rotor::thrust_available(
+            r.thrust_max_n,
+            r.power_max_w,
+            rho,
+            a,
+            0.0,
+            0.0,
+            r.power_model,
+        );
         if up > 0.5 {
             lift_area += n * a;
             let pos = match r.actuator {
@@ -137,7 +147,8 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
         // Thrust along body x: the vehicle hovers nose-up; every rotor lifts.
         for (g, r) in v.rotors.iter().enumerate() {
             lift_area += r.count as f64 * r.disk_area_m2();
-            hover_thrust += rotors[g].hover_thrust_available_n * v.rotor_axis_rad(g, &tilt_h).cos().max(0.0);
+            hover_thrust +=
+                rotors[g].hover_thrust_available_n * v.rotor_axis_rad(g, &tilt_h).cos().max(0.0);
         }
     }
     let surfaces: Vec<SurfaceSummary> = v
@@ -169,13 +180,18 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
         Some(d) => d.cl0 + d.cl_alpha * d.alpha_stall_pos_rad,
         None => cl_max,
     };
-    let stall_speed = (cl_max > 0.0).then(|| (2.0 * w / (rho * v.reference.area_m2 * cl_max)).sqrt());
+    let stall_speed =
+        (cl_max > 0.0).then(|| (2.0 * w / (rho * v.reference.area_m2 * cl_max)).sqrt());
 
     // Static margin in cruise configuration: tilt at the cruise end, trimmed at 1.4 V_s.
     let (mut sm, mut sm_speed) = (None, None);
     if let Some(vs) = stall_speed {
         let speed = 1.4 * vs;
-        let cruise_tilt: Vec<f64> = v.actuators.iter().map(|a| 0f64.clamp(a.min_rad, a.max_rad)).collect();
+        let cruise_tilt: Vec<f64> = v
+            .actuators
+            .iter()
+            .map(|a| 0f64.clamp(a.min_rad, a.max_rad))
+            .collect();
         let req = TrimRequest {
             speed_mps: speed,
             climb_rad: 0.0,
@@ -224,8 +240,16 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
         pitch_inertia_kg_m2: v.pitch_inertia_kg_m2,
         density_kg_m3: rho,
         hover_thrust_to_weight: tw,
-        disk_loading_n_m2: if lift_area > 0.0 { w / lift_area } else { f64::INFINITY },
-        ideal_hover_power_w: if lift_area > 0.0 { w.powf(1.5) / (2.0 * rho * lift_area).sqrt() } else { f64::INFINITY },
+        disk_loading_n_m2: if lift_area > 0.0 {
+            w / lift_area
+        } else {
+            f64::INFINITY
+        },
+        ideal_hover_power_w: if lift_area > 0.0 {
+            w.powf(1.5) / (2.0 * rho * lift_area).sqrt()
+        } else {
+            f64::INFINITY
+        },
         wing_loading_n_m2: w / v.reference.area_m2,
         stall_speed_mps: stall_speed,
         static_margin_pct: sm,

@@ -27,7 +27,10 @@ fn main() {
         objective: Objective::Power,
         thresholds: Thresholds::default(),
     };
-    let one = rayon::ThreadPoolBuilder::new().num_threads(1).build().expect("pool");
+    let one = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .expect("pool");
     let all = rayon::ThreadPoolBuilder::new().build().expect("pool");
     let mut report = |label: &str, pool: &rayon::ThreadPool| {
         let mut times = Vec::new();

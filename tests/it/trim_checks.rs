@@ -14,7 +14,9 @@ use hoverline::trim::{trim, Condition, Objective, TiltSetting, TrimRequest, Trim
 use hoverline::vehicle::{load_vehicle, Vehicle};
 
 fn data(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/data").join(name)
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/data")
+        .join(name)
 }
 
 fn vehicle(name: &str) -> Vehicle {
@@ -42,8 +44,10 @@ fn trimmed(v: &Vehicle, atm: &Atmosphere, req: &TrimRequest) -> TrimSolution {
 /// force (total minus the rotors') by the angle of attack.
 fn wind_axis_aero(s: &TrimSolution) -> (f64, f64) {
     let e = &s.evaluation;
-    let x: f64 = e.surfaces.iter().map(|l| l.x_n).sum::<f64>() + e.derivatives.map_or(0.0, |d| d.x_n);
-    let z: f64 = e.surfaces.iter().map(|l| l.z_n).sum::<f64>() + e.derivatives.map_or(0.0, |d| d.z_n);
+    let x: f64 =
+        e.surfaces.iter().map(|l| l.x_n).sum::<f64>() + e.derivatives.map_or(0.0, |d| d.x_n);
+    let z: f64 =
+        e.surfaces.iter().map(|l| l.z_n).sum::<f64>() + e.derivatives.map_or(0.0, |d| d.z_n);
     let a = e.alpha_rad;
     let lift = x * a.sin() - z * a.cos();
     let drag = -(x * a.cos() + z * a.sin());
@@ -67,8 +71,14 @@ fn conventional_airplane_level_flight_balances_lift_weight_thrust_drag() {
         let q = 0.5 * atm.density_kg_m3 * speed * speed;
         let cl = lift / (q * v.reference.area_m2);
         let cl_expected = (w - t * a.sin()) / (q * v.reference.area_m2);
-        assert!((cl / cl_expected - 1.0).abs() < 1e-6, "CL {cl} vs {cl_expected}");
-        assert!((t * a.cos() / drag - 1.0).abs() < 1e-6, "thrust {t} vs drag {drag}");
+        assert!(
+            (cl / cl_expected - 1.0).abs() < 1e-6,
+            "CL {cl} vs {cl_expected}"
+        );
+        assert!(
+            (t * a.cos() / drag - 1.0).abs() < 1e-6,
+            "thrust {t} vs drag {drag}"
+        );
         // Trim residual below 1e-6 of the weight (issue requirement).
         for r in [s.residual_x_n, s.residual_z_n] {
             assert!(r.abs() < 1e-6 * w, "residual {r}");
@@ -89,7 +99,10 @@ fn steady_climb_thrust_minus_drag_is_weight_times_sin_gamma() {
         let (_, drag) = wind_axis_aero(&s);
         let lhs = t * a.cos() - drag;
         let rhs = v.weight_n() * gamma.to_radians().sin();
-        assert!((lhs / rhs - 1.0).abs() < 1e-6, "gamma {gamma}: {lhs} vs {rhs}");
+        assert!(
+            (lhs / rhs - 1.0).abs() < 1e-6,
+            "gamma {gamma}: {lhs} vs {rhs}"
+        );
         assert!((s.state.theta_rad - a - gamma.to_radians()).abs() < 1e-12);
     }
 }
@@ -105,7 +118,10 @@ fn hover_thrust_carries_the_weight_and_splits_by_moments() {
     let e = &s.evaluation;
     let up: f64 = e.rotors.iter().map(|r| -r.z_n).sum();
     let fwd: f64 = e.rotors.iter().map(|r| r.x_n).sum();
-    assert!((up / w - 1.0).abs() < 1e-9, "vertical thrust {up} vs weight {w}");
+    assert!(
+        (up / w - 1.0).abs() < 1e-9,
+        "vertical thrust {up} vs weight {w}"
+    );
     assert!(fwd.abs() < 1e-9 * w, "horizontal thrust {fwd}");
     assert!((e.rotors[0].thrust_n / (3.0 / 7.0 * w) - 1.0).abs() < 1e-9);
     assert!((e.rotors[1].thrust_n / (4.0 / 7.0 * w) - 1.0).abs() < 1e-9);
@@ -133,9 +149,16 @@ fn phugoid_follows_lanchester() {
         let ph = ms.iter().find(|m| m.name == "phugoid").expect("a phugoid");
         let period = ph.period_s.expect("oscillatory");
         let lanchester = std::f64::consts::PI * 2f64.sqrt() * speed / G0_MPS2;
-        assert!((period / lanchester - 1.0).abs() < 0.10, "period {period} vs {lanchester}");
+        assert!(
+            (period / lanchester - 1.0).abs() < 0.10,
+            "period {period} vs {lanchester}"
+        );
         let zeta_l = 1.0 / (2f64.sqrt() * l_over_d);
-        assert!(ph.damping_ratio > 0.5 * zeta_l && ph.damping_ratio < 2.0 * zeta_l, "zeta {} vs {zeta_l}", ph.damping_ratio);
+        assert!(
+            ph.damping_ratio > 0.5 * zeta_l && ph.damping_ratio < 2.0 * zeta_l,
+            "zeta {} vs {zeta_l}",
+            ph.damping_ratio
+        );
     }
 }
 
@@ -167,12 +190,31 @@ fn derivative_model_reproduces_the_textbook_general_aviation_modes() {
     let s = trimmed(&v, &atm, &level(53.64, 0.0));
     let lin = linearise(&v, &atm, &s.state, &s.controls);
     let ms = modes(&lin.a, 53.64, true);
-    let sp = ms.iter().find(|m| m.name == "short-period").expect("short period");
+    let sp = ms
+        .iter()
+        .find(|m| m.name == "short-period")
+        .expect("short period");
     let ph = ms.iter().find(|m| m.name == "phugoid").expect("phugoid");
-    assert!((sp.natural_freq_rad_s / 3.607 - 1.0).abs() < 0.01, "sp wn {}", sp.natural_freq_rad_s);
-    assert!((sp.damping_ratio - 0.696).abs() < 0.005, "sp zeta {}", sp.damping_ratio);
-    assert!((ph.natural_freq_rad_s / 0.2136 - 1.0).abs() < 0.01, "ph wn {}", ph.natural_freq_rad_s);
-    assert!((ph.damping_ratio - 0.080).abs() < 0.005, "ph zeta {}", ph.damping_ratio);
+    assert!(
+        (sp.natural_freq_rad_s / 3.607 - 1.0).abs() < 0.01,
+        "sp wn {}",
+        sp.natural_freq_rad_s
+    );
+    assert!(
+        (sp.damping_ratio - 0.696).abs() < 0.005,
+        "sp zeta {}",
+        sp.damping_ratio
+    );
+    assert!(
+        (ph.natural_freq_rad_s / 0.2136 - 1.0).abs() < 0.01,
+        "ph wn {}",
+        ph.natural_freq_rad_s
+    );
+    assert!(
+        (ph.damping_ratio - 0.080).abs() < 0.005,
+        "ph zeta {}",
+        ph.damping_ratio
+    );
     // MIL-F-8785C indication: both Level 1 (CHECK-VALUES section 7).
     assert_eq!(sp.level_8785c, Some(1));
     assert_eq!(ph.level_8785c, Some(1));
@@ -209,7 +251,14 @@ fn linear_model_does_not_depend_on_the_step() {
 }
 
 fn rk4(f: &dyn Fn(&[f64; 4]) -> [f64; 4], x: &mut [f64; 4], dt: f64) {
-    let add = |a: &[f64; 4], b: &[f64; 4], h: f64| -> [f64; 4] { [a[0] + h * b[0], a[1] + h * b[1], a[2] + h * b[2], a[3] + h * b[3]] };
+    let add = |a: &[f64; 4], b: &[f64; 4], h: f64| -> [f64; 4] {
+        [
+            a[0] + h * b[0],
+            a[1] + h * b[1],
+            a[2] + h * b[2],
+            a[3] + h * b[3],
+        ]
+    };
     let k1 = f(x);
     let k2 = f(&add(x, &k1, dt / 2.0));
     let k3 = f(&add(x, &k2, dt / 2.0));
@@ -237,7 +286,14 @@ fn small_perturbation_follows_the_linear_model() {
     let c: Controls = s.controls.clone();
     let nonlinear = |x: &[f64; 4]| {
         let mut e = Evaluation::default();
-        evaluate(&v, &atm, &State::from_array(*x), &c, Wind::default(), &mut e);
+        evaluate(
+            &v,
+            &atm,
+            &State::from_array(*x),
+            &c,
+            Wind::default(),
+            &mut e,
+        );
         e.state_dot
     };
     let a = lin.a;
@@ -255,7 +311,9 @@ fn small_perturbation_follows_the_linear_model() {
     for _ in 0..1500 {
         rk4(&nonlinear, &mut xn, dt);
         rk4(&linear, &mut dx, dt);
-        worst = worst.max((xn[1] - x0[1] - dx[1]).abs()).max((xn[0] - x0[0] - dx[0]).abs());
+        worst = worst
+            .max((xn[1] - x0[1] - dx[1]).abs())
+            .max((xn[0] - x0[0] - dx[0]).abs());
     }
     assert!(worst < 0.02 * dw, "largest difference {worst} m/s");
 }
@@ -287,9 +345,20 @@ fn untrimmable_points_carry_reasons_and_no_numbers() {
     // be trimmed, and the report must say which limit stops it instead of giving a number.
     let v = vehicle("conventional-airplane.toml");
     let atm = isa(0.0, 0.0).unwrap();
-    let (rep, _) = solve_point(&v, &atm, &level(120.0, 0.0), &Thresholds::default(), None, true);
+    let (rep, _) = solve_point(
+        &v,
+        &atm,
+        &level(120.0, 0.0),
+        &Thresholds::default(),
+        None,
+        true,
+    );
     assert!(!rep.trimmed);
     assert!(rep.pitch_deg.is_none() && rep.margins.is_none() && rep.a_matrix.is_none());
     assert!(!rep.reasons.is_empty());
-    assert!(rep.reasons.iter().any(|r| r.contains("pusher")), "{:?}", rep.reasons);
+    assert!(
+        rep.reasons.iter().any(|r| r.contains("pusher")),
+        "{:?}",
+        rep.reasons
+    );
 }

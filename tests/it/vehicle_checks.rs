@@ -56,7 +56,13 @@ fn demo_polars_are_continuous_over_the_full_circle() {
                 let a = (-180.0 + 0.1 * i as f64).to_radians();
                 let c = s.polar.coefficients(a);
                 for (x, y) in [(c.cl, prev.cl), (c.cd, prev.cd), (c.cm, prev.cm)] {
-                    assert!((x - y).abs() < 0.03, "{}: jump {} at {:.1} deg", s.name, (x - y).abs(), a.to_degrees());
+                    assert!(
+                        (x - y).abs() < 0.03,
+                        "{}: jump {} at {:.1} deg",
+                        s.name,
+                        (x - y).abs(),
+                        a.to_degrees()
+                    );
                 }
                 prev = c;
             }
@@ -76,7 +82,9 @@ fn check_summary_follows_momentum_theory_and_the_stall_speed_relation() {
     let area = 4.0 * std::f64::consts::PI * 0.2f64.powi(2);
     assert!((s.disk_loading_n_m2 - w / area).abs() < 1e-9 * w);
     let rho = s.density_kg_m3;
-    assert!((s.ideal_hover_power_w / (w.powf(1.5) / (2.0 * rho * area).sqrt()) - 1.0).abs() < 1e-12);
+    assert!(
+        (s.ideal_hover_power_w / (w.powf(1.5) / (2.0 * rho * area).sqrt()) - 1.0).abs() < 1e-12
+    );
     let clmax = v.surfaces[0].polar.cl_max();
     let vs = (2.0 * w / (rho * v.reference.area_m2 * clmax)).sqrt();
     assert!((s.stall_speed_mps.unwrap() - vs).abs() < 1e-9);
@@ -87,12 +95,23 @@ fn check_summary_follows_momentum_theory_and_the_stall_speed_relation() {
 fn check_runs_on_every_demo_vehicle_and_writes_polars() {
     let dir = std::env::temp_dir().join(format!("hoverline-check-{}", std::process::id()));
     for p in demo_vehicles() {
-        let out = bin().arg("check").arg(&p).arg("--plot").arg(&dir).output().unwrap();
-        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        let out = bin()
+            .arg("check")
+            .arg(&p)
+            .arg("--plot")
+            .arg(&dir)
+            .output()
+            .unwrap();
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
         let text = String::from_utf8_lossy(&out.stdout);
         assert!(text.contains("not a flight clearance"));
         let json = bin().arg("check").arg(&p).arg("--json").output().unwrap();
-        let v: serde_json::Value = serde_json::from_slice(&json.stdout).expect("valid JSON on stdout");
+        let v: serde_json::Value =
+            serde_json::from_slice(&json.stdout).expect("valid JSON on stdout");
         assert!(v["weight_n"].as_f64().unwrap() > 0.0);
     }
     let _ = std::fs::remove_dir_all(&dir);
@@ -104,7 +123,11 @@ fn good() -> String {
 }
 
 fn refused(text: &str, expect: &[&str]) {
-    let dir = std::env::temp_dir().join(format!("hoverline-bad-{}-{}", std::process::id(), expect[0].len()));
+    let dir = std::env::temp_dir().join(format!(
+        "hoverline-bad-{}-{}",
+        std::process::id(),
+        expect[0].len()
+    ));
     std::fs::create_dir_all(&dir).unwrap();
     let p = dir.join("bad.toml");
     std::fs::write(&p, text).unwrap();
@@ -119,7 +142,12 @@ fn refused(text: &str, expect: &[&str]) {
     }
     // Binary: exit status 2 and the same message on stderr.
     let out = bin().arg("check").arg(&p).output().unwrap();
-    assert_eq!(out.status.code(), Some(2), "{}", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(
+        out.status.code(),
+        Some(2),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     assert!(String::from_utf8_lossy(&out.stderr).contains("bad.toml:"));
     let _ = std::fs::remove_dir_all(&dir);
 }
@@ -127,18 +155,48 @@ fn refused(text: &str, expect: &[&str]) {
 #[test]
 fn non_physical_values_are_refused_with_file_line_and_hint() {
     let g = good();
-    refused(&g.replace("mass_kg = 25.0", "mass_kg = 0.0"), &["mass_kg", "greater than zero"]);
+    refused(
+        &g.replace("mass_kg = 25.0", "mass_kg = 0.0"),
+        &["mass_kg", "greater than zero"],
+    );
     refused(&g.replace("mass_kg = 25.0", "mass_kg = -3.0"), &["mass_kg"]);
-    refused(&g.replace("area_m2 = 0.936", "area_m2 = -0.936"), &["area_m2"]);
-    refused(&g.replace("stall_pos_deg = 14.0", "stall_pos_deg = 95.0"), &["stall_pos_deg", "0..90"]);
+    refused(
+        &g.replace("area_m2 = 0.936", "area_m2 = -0.936"),
+        &["area_m2"],
+    );
+    refused(
+        &g.replace("stall_pos_deg = 14.0", "stall_pos_deg = 95.0"),
+        &["stall_pos_deg", "0..90"],
+    );
     refused(&g.replace("mass_kg = 25.0", "mass_kg = nan"), &["finite"]);
-    refused(&g.replace("radius_m = 0.28", "radius_m = inf"), &["radius_m", "finite"]);
-    refused(&g.replace("rotor = \"wing-props\"", "rotor = \"wing-fans\""), &["no rotor is named 'wing-fans'", "wing-props"]);
-    refused(&g.replace("min_deg = 0.0\nmax_deg = 95.0", "min_deg = 95.0\nmax_deg = 0.0"), &["min_deg", "above"]);
-    refused(&g.replace("fraction = 0.45", "fraction = 1.45"), &["fraction"]);
-    refused(&g.replace("figure_of_merit = 0.68", "figure_of_merit = 1.4"), &["figure_of_merit"]);
+    refused(
+        &g.replace("radius_m = 0.28", "radius_m = inf"),
+        &["radius_m", "finite"],
+    );
+    refused(
+        &g.replace("rotor = \"wing-props\"", "rotor = \"wing-fans\""),
+        &["no rotor is named 'wing-fans'", "wing-props"],
+    );
+    refused(
+        &g.replace(
+            "min_deg = 0.0\nmax_deg = 95.0",
+            "min_deg = 95.0\nmax_deg = 0.0",
+        ),
+        &["min_deg", "above"],
+    );
+    refused(
+        &g.replace("fraction = 0.45", "fraction = 1.45"),
+        &["fraction"],
+    );
+    refused(
+        &g.replace("figure_of_merit = 0.68", "figure_of_merit = 1.4"),
+        &["figure_of_merit"],
+    );
     // Unknown key, wrong type, broken syntax: located by the parser.
-    refused(&g.replace("mass_kg = 25.0", "mass_kg = 25.0\nmass_lb = 55.0"), &["unknown field"]);
+    refused(
+        &g.replace("mass_kg = 25.0", "mass_kg = 25.0\nmass_lb = 55.0"),
+        &["unknown field"],
+    );
     refused(&g.replace("count = 2", "count = \"two\""), &["count"]);
     refused(&g.replace("[mass]", "[mass"), &["bad.toml"]);
 }
@@ -148,11 +206,17 @@ fn tabulated_polars_are_checked_for_coverage_and_order() {
     // A table that does not reach -180 deg, and one out of order, both refused with the row.
     let dir = std::env::temp_dir().join(format!("hoverline-table-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let vehicle = std::fs::read_to_string(root().join("vehicles/lift-cruise-surveyor.toml")).unwrap();
-    let table = std::fs::read_to_string(root().join("vehicles/surveyor-fuselage-polar.csv")).unwrap();
+    let vehicle =
+        std::fs::read_to_string(root().join("vehicles/lift-cruise-surveyor.toml")).unwrap();
+    let table =
+        std::fs::read_to_string(root().join("vehicles/surveyor-fuselage-polar.csv")).unwrap();
     let vp = dir.join("v.toml");
     std::fs::write(&vp, &vehicle).unwrap();
-    let cut: String = table.lines().filter(|l| !l.starts_with("-180.0,")).map(|l| format!("{l}\n")).collect();
+    let cut: String = table
+        .lines()
+        .filter(|l| !l.starts_with("-180.0,"))
+        .map(|l| format!("{l}\n"))
+        .collect();
     std::fs::write(dir.join("surveyor-fuselage-polar.csv"), cut).unwrap();
     let e = load_vehicle(&vp).expect_err("uncovered table refused");
     assert!(e.to_string().contains("surveyor-fuselage-polar.csv"), "{e}");
@@ -165,12 +229,29 @@ fn tabulated_polars_are_checked_for_coverage_and_order() {
 
 #[test]
 fn bad_usage_and_missing_files_exit_with_status_2() {
-    let out = bin().args(["trim", "vehicles/none.toml", "--speed", "10"]).output().unwrap();
+    let out = bin()
+        .args(["trim", "vehicles/none.toml", "--speed", "10"])
+        .output()
+        .unwrap();
     assert_eq!(out.status.code(), Some(2));
-    let out = bin().arg("trim").arg(root().join("vehicles/tail-sitter-wing.toml")).args(["--speed", "-4"]).output().unwrap();
+    let out = bin()
+        .arg("trim")
+        .arg(root().join("vehicles/tail-sitter-wing.toml"))
+        .args(["--speed", "-4"])
+        .output()
+        .unwrap();
     assert_eq!(out.status.code(), Some(2));
-    let out = bin().arg("trim").arg(root().join("vehicles/tail-sitter-wing.toml")).args(["--speed", "5", "--tilt-deg", "30"]).output().unwrap();
-    assert_eq!(out.status.code(), Some(2), "tail-sitter has no tilt actuator");
+    let out = bin()
+        .arg("trim")
+        .arg(root().join("vehicles/tail-sitter-wing.toml"))
+        .args(["--speed", "5", "--tilt-deg", "30"])
+        .output()
+        .unwrap();
+    assert_eq!(
+        out.status.code(),
+        Some(2),
+        "tail-sitter has no tilt actuator"
+    );
     let out = bin().arg("frobnicate").output().unwrap();
     assert_eq!(out.status.code(), Some(2));
     let _ = Path::new(".");
