@@ -362,3 +362,128 @@ fn untrimmable_points_carry_reasons_and_no_numbers() {
         rep.reasons
     );
 }
+
+#[test]
+fn every_demo_sweep_trims_to_a_tiny_residual_or_says_why_not() {
+    // Common practice, no source: the acceptance rule, residuals below 1e-6 of the
+    // weight on every trimmed point, reasons on every untrimmed one.
+    use hoverline::scenario::load_scenario;
+    use hoverline::sweep::{run_sweep, SweepSettings};
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
+    for e in std::fs::read_dir(dir).unwrap() {
+        let sc = load_scenario(&e.unwrap().path()).unwrap();
+        let a = &sc.file.atmosphere;
+        let atm = isa(a.altitude_m, a.temperature_offset_k).unwrap();
+        let settings = SweepSettings {
+            speeds_mps: sc.speeds_mps.clone(),
+            climb_rad: sc.climb_rad,
+            schedule: sc.schedule.clone(),
+            objective: sc.file.sweep.objective,
+            thresholds: sc.file.thresholds.clone(),
+        };
+        let r = run_sweep(&sc.vehicle, &atm, &settings, &|| {});
+        let w = sc.vehicle.weight_n();
+        let mut trimmed = 0;
+        for p in &r.points {
+            if p.trimmed {
+                trimmed += 1;
+                let res = p.residual;
+                assert!(
+                    res.x_n.abs() < 1e-6 * w && res.z_n.abs() < 1e-6 * w,
+                    "{} at {}",
+                    sc.file.name,
+                    p.speed_mps
+                );
+                assert!(res.m_nm.abs() < 1e-6 * w * sc.vehicle.reference.chord_m);
+            } else {
+                assert!(!p.reasons.is_empty());
+            }
+        }
+        assert!(
+            trimmed * 2 > r.points.len(),
+            "{}: most points trim",
+            sc.file.name
+        );
+    }
+}
+
+#[test]
+fn trim_json_has_the_keys_other_programs_rely_on() {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_hoverline"))
+        .arg("trim")
+        .arg(data("conventional-airplane.toml"))
+        .args(["--speed", "30", "--json"])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("only JSON on stdout");
+    for k in [
+        "speed_mps",
+        "climb_deg",
+        "altitude_m",
+        "density_kg_m3",
+        "mass_kg",
+        "weight_n",
+        "trimmed",
+        "reasons",
+        "pitch_deg",
+        "alpha_deg",
+        "residual",
+        "actuators",
+        "rotors",
+        "surfaces",
+        "modes",
+        "margins",
+        "state_names",
+        "input_names",
+        "a_matrix",
+        "b_matrix",
+    ] {
+        assert!(v.get(k).is_some(), "missing key {k}");
+    }
+    for k in ["x_n", "z_n", "m_nm"] {
+        assert!(v["residual"][k].is_number());
+    }
+    for k in ["name", "kind", "value", "unit", "min", "max"] {
+        assert!(v["actuators"][0].get(k).is_some(), "actuators.{k}");
+    }
+    for k in [
+        "name",
+        "count",
+        "thrust_n",
+        "axis_deg",
+        "power_w",
+        "thrust_margin",
+        "power_margin",
+    ] {
+        assert!(v["rotors"][0].get(k).is_some(), "rotors.{k}");
+    }
+    for k in ["name", "alpha_deg", "stall_margin_deg", "lift_n", "drag_n"] {
+        assert!(v["surfaces"][0].get(k).is_some(), "surfaces.{k}");
+    }
+    for k in [
+        "name",
+        "real_per_s",
+        "imag_rad_s",
+        "natural_freq_rad_s",
+        "damping_ratio",
+        "period_s",
+        "time_to_double_s",
+        "time_to_half_s",
+    ] {
+        assert!(v["modes"][0].get(k).is_some(), "modes.{k}");
+    }
+    for k in [
+        "stall_deg",
+        "thrust",
+        "power",
+        "pitch_accel_up_rad_s2",
+        "pitch_accel_down_rad_s2",
+        "elevator_deg",
+        "static_margin_pct",
+    ] {
+        assert!(v["margins"].get(k).is_some(), "margins.{k}");
+    }
+    assert_eq!(v["a_matrix"].as_array().unwrap().len(), 4);
+    assert_eq!(v["b_matrix"].as_array().unwrap().len(), 4);
+}
