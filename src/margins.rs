@@ -27,7 +27,8 @@ use crate::vehicle::Vehicle;
 pub struct SurfaceMargin {
     /// Surface name.
     pub name: String,
-    /// Angle of attack of the clean part (deg); of the immersed part if fully immersed.
+    /// Angle of attack of the clean part (deg), or of the critical part where the clean
+    /// part carries no load (hover).
     pub alpha_deg: f64,
     /// Angle of attack of the most critical part (deg).
     pub critical_alpha_deg: f64,
@@ -193,11 +194,17 @@ pub fn margins(
                 };
             }
         }
-        let shown = parts.iter().find(|p| p.fraction > 0.0).unwrap_or(&parts[0]);
+        // The clean part when it carries load; otherwise the critical (immersed) part.
+        let clean = &parts[0];
+        let shown_alpha = if !loaded || part_is_loaded(clean, s.area_m2, w) {
+            clean.alpha_rad
+        } else {
+            crit_alpha
+        };
         let load = &e.surfaces[i];
         surfaces.push(SurfaceMargin {
             name: s.name.clone(),
-            alpha_deg: shown.alpha_rad.to_degrees(),
+            alpha_deg: shown_alpha.to_degrees(),
             critical_alpha_deg: crit_alpha.to_degrees(),
             critical_part: crit_name,
             stall_margin_deg: best.to_degrees(),

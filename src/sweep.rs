@@ -166,7 +166,7 @@ pub struct PointReport {
     pub active_limits: Vec<String>,
     /// Pitch attitude (deg).
     pub pitch_deg: Option<f64>,
-    /// Angle of attack at the CG (deg).
+    /// Angle of attack at the CG (deg); null in hover, where it is undefined.
     pub alpha_deg: Option<f64>,
     /// Acceleration along the path (m/s^2), zero for steady trim.
     pub path_accel_mps2: Option<f64>,
@@ -305,7 +305,8 @@ pub fn assess(
     let ms = modes(&lin.a, req.speed_mps, share >= WINGBORNE_LIFT_SHARE);
     let m = margins(v, atm, &sol.state, &sol.controls, e, &lin, &ms);
     report.pitch_deg = Some(sol.state.theta_rad.to_degrees());
-    report.alpha_deg = Some(e.alpha_rad.to_degrees());
+    // Undefined without airspeed.
+    report.alpha_deg = (e.airspeed_mps > 1e-9).then(|| e.alpha_rad.to_degrees());
     report.path_accel_mps2 = Some(sol.path_accel_mps2);
     report.actuators = actuator_values(v, sol, &m);
     report.rotors = m

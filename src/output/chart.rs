@@ -650,7 +650,18 @@ impl Bounds {
 
 /// Liang-Barsky clipping of segment p-q to the box; returns the clipped ends and whether
 /// each end was moved.
-fn clip(p: (f64, f64), q: (f64, f64), b: &Bounds) -> Option<((f64, f64), (f64, f64), bool, bool)> {
+/// A point in data coordinates.
+type Pt = (f64, f64);
+
+/// A segment clipped to a box: its ends and whether each end was moved onto the box edge.
+struct Clipped {
+    a: Pt,
+    b: Pt,
+    a_moved: bool,
+    b_moved: bool,
+}
+
+fn clip(p: Pt, q: Pt, b: &Bounds) -> Option<Clipped> {
     let (dx, dy) = (q.0 - p.0, q.1 - p.1);
     let mut t0 = 0.0f64;
     let mut t1 = 1.0f64;
@@ -676,14 +687,26 @@ fn clip(p: (f64, f64), q: (f64, f64), b: &Bounds) -> Option<((f64, f64), (f64, f
     if t0 > t1 {
         return None;
     }
-    let a = (p.0 + t0 * dx, p.1 + t0 * dy);
-    let c = (p.0 + t1 * dx, p.1 + t1 * dy);
-    Some((a, c, t0 > 0.0, t1 < 1.0))
+    Some(Clipped {
+        a: (p.0 + t0 * dx, p.1 + t0 * dy),
+        b: (p.0 + t1 * dx, p.1 + t1 * dy),
+        a_moved: t0 > 0.0,
+        b_moved: t1 < 1.0,
+    })
 }
 
 /// Split a polyline into drawable runs inside the box (gaps at non-finite points and where
 /// the line leaves the box) plus isolated points that need a marker.
-fn runs(x: &[f64], y: &[f64], b: &Bounds) -> (Vec<Vec<(f64, f64)>>, Vec<(f64, f64)>) {
+/// Drawable pieces of a polyline.
+#[derive(Debug, PartialEq)]
+struct Runs {
+    /// Connected runs of two or more points.
+    lines: Vec<Vec<Pt>>,
+    /// Finite points with no finite neighbour, drawn as markers.
+    lonely: Vec<Pt>,
+}
+
+fn runs(x: &[f64], y: &[f64], b: &Bounds) -> Runs {
     let n = x.len().min(y.len());
     let ok = |i: usize| x[i].is_finite() && y[i].is_finite();
     let mut lines: Vec<Vec<(f64, f64)>> = Vec::new();
@@ -695,14 +718,14 @@ fn runs(x: &[f64], y: &[f64], b: &Bounds) -> (Vec<Vec<(f64, f64)>>, Vec<(f64, f6
         }
         match clip((x[i], y[i]), (x[i + 1], y[i + 1]), b) {
             None => open = false,
-            Some((a, c, a_moved, c_moved)) => {
-                if !open || a_moved {
-                    lines.push(vec![a]);
+            Some(c) => {
+                if !open || c.a_moved {
+                    lines.push(vec![c.a]);
                 }
                 if let Some(run) = lines.last_mut() {
-                    run.push(c);
+                    run.push(c.b);
                 }
-                open = !c_moved;
+                open = !c.b_moved;
             }
         }
     }
@@ -712,7 +735,7 @@ fn runs(x: &[f64], y: &[f64], b: &Bounds) -> (Vec<Vec<(f64, f64)>>, Vec<(f64, f6
         .map(|i| (x[i], y[i]))
         .filter(|&p| b.contains(p))
         .collect();
-    (lines, lonely)
+    Runs { lines, lonely }
 }
 
 // ---------------------------------------------------------------------------------------
@@ -797,16 +820,26 @@ fn legend_items(p: &Panel, y_range: (f64, f64)) -> Vec<LegendItem> {
     items
 }
 
-/// Positions (x, y) of each item in a strip of width `width` starting at `left`, and the
-/// strip height.
+/// Where the legend items go in their strip.
+struct LegendLayout {
+    /// Top-left corner (px) of each item.
+    pos: Vec<(i32, i32)>,
+    /// Height of the strip (px).
+    height: u32,
+}
+
+/// Lay out the items in rows of width `width` starting at `left`.
 fn legend_layout<DB: DrawingBackend>(
     area: &DrawingArea<DB, Shift>,
     items: &[LegendItem],
     left: i32,
     width: i32,
-) -> Result<(Vec<(i32, i32)>, u32), DrawingAreaErrorKind<DB::ErrorType>> {
+) -> Result<LegendLayout, DrawingAreaErrorKind<DB::ErrorType>> {
     if items.is_empty() {
-        return Ok((Vec::new(), 0));
+        return Ok(LegendLayout {
+            pos: Vec::new(),
+            height: 0,
+        });
     }
     let style = font(LEGEND_PX);
     let mut pos = Vec::with_capacity(items.len());
@@ -821,7 +854,10 @@ fn legend_layout<DB: DrawingBackend>(
         pos.push((x, y));
         x += w;
     }
-    Ok((pos, (y + LEGEND_ROW as i32 + 6) as u32))
+    Ok(LegendLayout {
+        pos,
+        height: (y + LEGEND_ROW as i32 + 6) as u32,
+    })
 }
 
 fn draw_swatch<DB: DrawingBackend>(
@@ -924,7 +960,7 @@ fn draw_series_clipped<DB: DrawingBackend>(
     s: &Series,
     b: &Bounds,
 ) -> Res<DB> {
-    let (lines, lonely) = runs(&s.x, &s.y, b);
+    let Runs { lines, lonely } = runs(&s.x, &s.y, b);
     for run in lines {
         draw_path(chart, run, s.style, LINE_WIDTH)?;
     }
@@ -970,15 +1006,22 @@ where
             .chain(p.vlines.iter().map(|v| v.x))
             .chain(p.shades.iter().flat_map(|s| [s.from, s.to])),
     );
-    let y_auto = finite_extent(pts.iter().map(|q| q.1).chain(p.hlines.iter().map(|l| l.y)));
+    // A user range that is not finite is ignored; with a fixed x range only the points
+    // inside it set the automatic y range.
+    let fixed = |r: Option<(f64, f64)>| r.filter(|r| r.0.is_finite() && r.1.is_finite());
+    let (x_fixed, y_fixed) = (fixed(p.x_range), fixed(p.y_range));
+    let in_x = |x: f64| x_fixed.is_none_or(|r| x >= r.0.min(r.1) && x <= r.0.max(r.1));
+    let y_auto = finite_extent(
+        pts.iter()
+            .filter(|q| in_x(q.0))
+            .map(|q| q.1)
+            .chain(p.hlines.iter().map(|l| l.y)),
+    );
     let xr = settle(
-        p.x_range.or(x_auto).unwrap_or((0.0, 1.0)),
-        p.x_range.is_none() && !tight_x,
+        x_fixed.or(x_auto).unwrap_or((0.0, 1.0)),
+        x_fixed.is_none() && !tight_x,
     );
-    let yr = settle(
-        p.y_range.or(y_auto).unwrap_or((0.0, 1.0)),
-        p.y_range.is_none(),
-    );
+    let yr = settle(y_fixed.or(y_auto).unwrap_or((0.0, 1.0)), y_fixed.is_none());
 
     let mut items = legend_items(p, yr);
     items.extend(extra_legend);
@@ -986,7 +1029,7 @@ where
     // Y tick labels decide the left label area; measure them first.
     let caption_h = if p.title.is_empty() { 0 } else { 34 };
     let left_guess = 110;
-    let (_, legend_h) = legend_layout(area, &items, left_guess, w as i32 - left_guess - 16)?;
+    let legend_h = legend_layout(area, &items, left_guess, w as i32 - left_guess - 16)?.height;
     let plot_h = h.saturating_sub(legend_h + caption_h + X_LABEL_AREA + 2 * MARGIN);
     let (yt, yl) = ticks(yr, None, (plot_h / 55).clamp(4, 10) as usize);
     let tick_style = font(TICK_PX);
@@ -996,7 +1039,10 @@ where
     }
     let y_area = widest + 16 + 34;
     let left = (MARGIN + y_area) as i32;
-    let (pos, legend_h) = legend_layout(area, &items, left, w as i32 - left - 16)?;
+    let LegendLayout {
+        pos,
+        height: legend_h,
+    } = legend_layout(area, &items, left, w as i32 - left - 16)?;
     let plot_w = w.saturating_sub(y_area + 3 * MARGIN);
     let (xt, xl) = ticks(xr, p.x_tick_step, (plot_w / 110).clamp(3, 8) as usize);
 
@@ -1381,7 +1427,7 @@ mod tests {
         };
         let x = [0.0, 1.0, 2.0, 3.0, 4.0, 5.0, 6.0];
         let y = [1.0, 2.0, f64::NAN, 3.0, 4.0, f64::NAN, 5.0];
-        let (lines, lonely) = runs(&x, &y, &b);
+        let Runs { lines, lonely } = runs(&x, &y, &b);
         assert_eq!(
             lines,
             vec![vec![(0.0, 1.0), (1.0, 2.0)], vec![(3.0, 3.0), (4.0, 4.0)]]
@@ -1398,7 +1444,7 @@ mod tests {
             y0: 0.0,
             y1: 1.0,
         };
-        let (lines, _) = runs(&[0.0, 2.0, 4.0], &[0.5, 1.5, 0.5], &b);
+        let lines = runs(&[0.0, 2.0, 4.0], &[0.5, 1.5, 0.5], &b).lines;
         assert_eq!(lines.len(), 2);
         assert_eq!(lines[0], vec![(0.0, 0.5), (1.0, 1.0)]);
         assert_eq!(lines[1], vec![(3.0, 1.0), (4.0, 0.5)]);

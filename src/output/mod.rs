@@ -9,7 +9,7 @@ pub mod text;
 /// The caution every report carries.
 pub const CAUTION: &str = "Preliminary design aid from quasi-steady, simplified models: not a flight clearance. \
 Defer to the applicable airworthiness authority, local aviation rules and licensed flight-test practice.";
-pub mod plots;
-pub mod sweep_files;
 pub mod corridor_files;
 pub mod flight_files;
+pub mod plots;
+pub mod sweep_files;

@@ -481,19 +481,29 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
     let mut panels = Vec::new();
 
     let mut stall = ctx.panel("stall margin", "stall margin (deg)");
-    stall.series = ctx
-        .surface_names()
-        .iter()
-        .enumerate()
-        .map(|(k, n)| {
-            ctx.series(format!("'{n}'"), data_style(k), |p| {
+    // A surface part with too little dynamic pressure to carry load is reported but its stall
+    // is not counted by the sweep: show those points apart, with the same colour.
+    for (k, n) in ctx.surface_names().iter().enumerate() {
+        let margin_if = |loaded: bool| {
+            move |p: &PointReport| {
                 p.surfaces
                     .iter()
-                    .find(|s| s.name == *n)
+                    .find(|s| s.name == *n && s.loaded == loaded)
                     .map(|s| s.stall_margin_deg)
-            })
-        })
-        .collect();
+            }
+        };
+        stall
+            .series
+            .push(ctx.series(format!("'{n}'"), data_style(k), margin_if(true)));
+        let unloaded = ctx.series(
+            format!("'{n}' not loaded (not counted)"),
+            data_style(k) + PARTNER,
+            margin_if(false),
+        );
+        if unloaded.y.iter().any(|v| v.is_finite()) {
+            stall.series.push(unloaded);
+        }
+    }
     stall.hlines = vec![HLine {
         y: th.stall_margin_deg,
         label: format!("threshold {:.1} deg", th.stall_margin_deg),
@@ -724,6 +734,7 @@ mod tests {
             stall_neg_deg: -12.0,
             lift_n: 10.0,
             drag_n: 1.0,
+            loaded: speed > 0.5,
         }];
         p.modes = vec![Mode {
             name: "short-period".into(),
@@ -808,11 +819,13 @@ mod tests {
         assert!(eig.contains("real part (1/s)"));
         assert!(eig.contains("imaginary part (rad/s)"));
         let margins = std::fs::read_to_string(dir.join("margins.svg")).unwrap();
+        assert!(margins.contains("not loaded (not counted)"));
         let th = &sc.file.thresholds;
         assert!(margins.contains(&format!("threshold {:.1} deg", th.stall_margin_deg)));
         assert!(margins.contains("unsafe band"));
         let trim = std::fs::read_to_string(dir.join("trim_curves.svg")).unwrap();
-        assert!(trim.contains("&apos;front&apos; thrust") || trim.contains("'front' thrust"));
+        // plotters escapes the apostrophe in SVG text.
+        assert!(trim.contains("&apos;front&apos; thrust"));
         assert!(trim.contains("tilt angle (deg)"));
         std::fs::remove_dir_all(&dir).unwrap();
     }
