@@ -3,6 +3,7 @@
 
 mod aero_checks;
 mod atmosphere_checks;
+mod dynamics_checks;
 mod rotor_checks;
 mod trim_checks;
 mod vehicle_checks;
