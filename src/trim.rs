@@ -854,11 +854,13 @@ pub fn trim(
         untrimmable_reasons(v, &p, &f, &active)
     };
     let d = p.eval.state_dot;
-    let (s, c) = state.theta_rad.sin_cos();
     let alpha = state.theta_rad - req.climb_rad;
-    // Acceleration along the path: project the body acceleration on the velocity direction.
-    let path_accel = d[0] * alpha.cos() + d[1] * alpha.sin();
-    let _ = (s, c);
+    // Acceleration along the path (body acceleration projected on the velocity direction):
+    // zero in steady trim, the result with pitch held. The residual is what is left after it.
+    let path_accel = match req.condition {
+        Condition::Steady => 0.0,
+        Condition::HeldPitch => d[0] * alpha.cos() + d[1] * alpha.sin(),
+    };
     let m = v.mass_kg;
     TrimSolution {
         status: if converged {
@@ -870,24 +872,10 @@ pub fn trim(
         active_limits: active,
         state,
         controls,
-        residual_x_n: m * d[0]
-            - if req.condition == Condition::HeldPitch {
-                m * path_accel * alpha.cos()
-            } else {
-                0.0
-            },
-        residual_z_n: m * d[1]
-            - if req.condition == Condition::HeldPitch {
-                m * path_accel * alpha.sin()
-            } else {
-                0.0
-            },
+        residual_x_n: m * (d[0] - path_accel * alpha.cos()),
+        residual_z_n: m * (d[1] - path_accel * alpha.sin()),
         residual_m_nm: v.pitch_inertia_kg_m2 * d[2],
-        path_accel_mps2: if req.condition == Condition::HeldPitch {
-            path_accel
-        } else {
-            0.0
-        },
+        path_accel_mps2: path_accel,
         objective_value: match req.objective {
             Objective::Power => p.eval.power_w,
             Objective::StallMargin => smallest_stall_margin_rad(v, &p.eval).to_degrees(),
