@@ -119,9 +119,9 @@ pub fn point(p: &PointReport) -> String {
     }
     let _ = writeln!(
         o,
-        "  pitch {:.2} deg, alpha {:.2} deg, residual X {:.2e} N, Z {:.2e} N, M {:.2e} N m ({} iterations)",
-        p.pitch_deg.unwrap_or(f64::NAN),
-        p.alpha_deg.unwrap_or(f64::NAN),
+        "  pitch {} deg, alpha {} deg, residual X {:.2e} N, Z {:.2e} N, M {:.2e} N m ({} iterations)",
+        opt(p.pitch_deg, 2),
+        opt(p.alpha_deg, 2),
         p.residual.x_n,
         p.residual.z_n,
         p.residual.m_nm,
@@ -246,11 +246,11 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
             Some(m) => {
                 let _ = writeln!(
                     o,
-                    "  {:>6.1} {:>4} {:>7.1} {:>7.1} {:>8.1} {:>8.0} {:>7.0} {:>7.2} {:>7.2} {:>8.3}  {}{}",
+                    "  {:>6.1} {:>4} {:>7} {:>7} {:>8.1} {:>8.0} {:>7.0} {:>7.2} {:>7.2} {:>8.3}  {}{}",
                     p.speed_mps,
                     if p.reasons.is_empty() { "yes" } else { "!" },
-                    p.pitch_deg.unwrap_or(f64::NAN),
-                    p.alpha_deg.unwrap_or(f64::NAN),
+                    opt(p.pitch_deg, 1),
+                    opt(p.alpha_deg, 1),
                     m.stall_deg,
                     100.0 * m.thrust,
                     100.0 * m.power,
