@@ -246,7 +246,7 @@ pub fn performance(
     RotorPerformance {
         induced_velocity_mps: v_i,
         ideal_power_w: ideal,
-        shaft_power_w: shaft_from_parts(thrust_n, v_axial_mps, v_i, ideal, power),
+        shaft_power_w: shaft_from_parts(thrust_n, v_axial_mps, v_i, power),
         mass_flow_kg_s: mass_flow,
         ram_drag_n: saturate(density_kg_m3 * disk_area_m2 * v_i * v_t),
     }
@@ -370,25 +370,16 @@ fn shaft_power(
         return 0.0;
     }
     let v_i = saturate(v_h * induced_ratio(v_axial_mps / v_h, v_inplane_mps.abs() / v_h));
-    let ideal = saturate(thrust_n * saturate(v_axial_mps + v_i));
-    shaft_from_parts(thrust_n, v_axial_mps, v_i, ideal, power)
+    shaft_from_parts(thrust_n, v_axial_mps, v_i, power)
 }
 
 /// Shaft power from the momentum-theory parts. A parameter outside the model's domain (FM not
 /// positive, kappa NaN) is read as "needs unlimited power" and saturates; validation rejects it
 /// earlier.
-fn shaft_from_parts(
-    thrust_n: f64,
-    v_axial_mps: f64,
-    v_i: f64,
-    ideal_w: f64,
-    power: PowerModel,
-) -> f64 {
+fn shaft_from_parts(thrust_n: f64, v_axial_mps: f64, v_i: f64, power: PowerModel) -> f64 {
     let p = match power {
         PowerModel::FigureOfMerit(fm) => {
-            if ideal_w <= 0.0 {
-                0.0
-            } else if fm > 0.0 {
+            if fm > 0.0 {
                 saturate(thrust_n * v_axial_mps) + saturate(thrust_n * v_i / fm)
             } else {
                 f64::INFINITY

@@ -171,8 +171,10 @@ pub struct TransitionFile {
     pub acceleration_mps2: f64,
     /// Planned deceleration for cruise-to-hover (m/s^2, positive).
     pub deceleration_mps2: f64,
-    /// Largest change of the transition variable per unit speed between neighbouring schedule
-    /// points, as a smoothness bound (deg per (m/s)^2 of second difference).
+    /// Smoothness bound of a built schedule: the largest |d2y/dV2| of the transition variable
+    /// y against airspeed V, estimated on the schedule's knots as
+    /// 2 (s_k - s_(k-1)) / (h_(k-1) + h_k) with s_k the slope and h_k the speed span of
+    /// segment k (deg per (m/s)^2).
     pub smoothness_deg_per_mps2: f64,
 }
 
@@ -236,8 +238,16 @@ pub struct FlightFile {
     /// A surface part counts for stall exposure only while its dynamic pressure times area is
     /// at least this fraction of the weight (-).
     pub stall_load_fraction: f64,
-    /// Tilt lagging its schedule by more than this is reported (deg).
+    /// Tilt off its schedule at the flown airspeed by more than this is reported (deg).
     pub tilt_lag_warning_deg: f64,
+    /// Largest lead of the planned speed over the flown airspeed (m/s): the plan waits for a
+    /// vehicle that cannot accelerate as planned.
+    pub plan_lead_mps: f64,
+    /// Angle-of-attack protection: the speed and height loops may not pitch a loaded,
+    /// unstalled surface part past its stall angle less the margin.
+    pub alpha_protection: bool,
+    /// Margin of the angle-of-attack protection (deg).
+    pub alpha_protection_margin_deg: f64,
 }
 
 impl Default for FlightFile {
@@ -266,6 +276,9 @@ impl Default for FlightFile {
             gust: None,
             stall_load_fraction: 0.005,
             tilt_lag_warning_deg: 5.0,
+            plan_lead_mps: 2.0,
+            alpha_protection: true,
+            alpha_protection_margin_deg: 2.0,
         }
     }
 }

@@ -1,17 +1,189 @@
-//! `hoverline corridor` (being written).
+//! `hoverline corridor SCENARIO`: map the trimmable region over airspeed and the transition
+//! variable, write corridor.csv, corridor.json and the corridor plot.
+
+use std::path::PathBuf;
 
 use clap::Args;
 
 use super::CliError;
+use hoverline::corridor::{compute, Corridor, CorridorSettings};
+use hoverline::output::corridor_files::{describe, write_corridor};
+use hoverline::scenario::{load_scenario, Scenario};
 
 /// Arguments of `corridor`.
 #[derive(Debug, Args)]
 pub struct CorridorArgs {
     /// Scenario file (TOML)
-    scenario: std::path::PathBuf,
+    scenario: PathBuf,
+    /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Airspeed step of the grid (m/s; default half the scenario's sweep step)
+    #[arg(long, value_name = "MPS")]
+    speed_step: Option<f64>,
+    /// Step of the transition variable (deg; default 1)
+    #[arg(long, value_name = "DEG")]
+    value_step: Option<f64>,
+    /// Lowest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pitch_min: Option<f64>,
+    /// Highest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pitch_max: Option<f64>,
+    /// Print the corridor as JSON on stdout as well
+    #[arg(long)]
+    json: bool,
+}
+
+/// Grid settings shared by `corridor` and `schedule`.
+pub(super) fn settings(
+    sc: &Scenario,
+    speed_step: Option<f64>,
+    value_step: Option<f64>,
+    pitch_min: Option<f64>,
+    pitch_max: Option<f64>,
+) -> Result<CorridorSettings, CliError> {
+    let mut s = CorridorSettings::for_scenario(sc, speed_step, value_step)
+        .map_err(|e| CliError::Usage(format!("--speed-step / --value-step: {e}")))?;
+    if let Some((lo, hi)) = s.pitch_limits_rad.as_mut() {
+        if let Some(m) = pitch_min {
+            *lo = m.to_radians();
+        }
+        if let Some(m) = pitch_max {
+            *hi = m.to_radians();
+        }
+        if !(lo.is_finite() && hi.is_finite() && *hi > *lo) {
+            return Err(CliError::Usage(
+                "--pitch-min / --pitch-max: the range is empty\n  hint: give --pitch-min below --pitch-max".into(),
+            ));
+        }
+    } else if pitch_min.is_some() || pitch_max.is_some() {
+        return Err(CliError::Usage(format!(
+            "--pitch-min / --pitch-max apply to tilt vehicles; '{}' has no tilt actuator and uses pitch as its grid\n  hint: leave them out",
+            sc.vehicle.name
+        )));
+    }
+    Ok(s)
+}
+
+/// Compute a corridor with a progress bar on stderr.
+pub(super) fn compute_with_bar(sc: &Scenario, s: &CorridorSettings) -> Result<Corridor, CliError> {
+    let atm = hoverline::atmosphere::isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let n = (s.speeds_mps.len() * s.values_rad.len()) as u64;
+    let bar = indicatif::ProgressBar::new(n);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template(
+            "{prefix} [{bar:30}] {pos}/{len} points ({eta} left)",
+        )
+        .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar.set_prefix("corridor");
+    let c =
+        compute(&sc.vehicle, &atm, s, &|| bar.inc(1)).map_err(|e| CliError::Usage(e.to_string()));
+    bar.finish_and_clear();
+    c
+}
+
+/// Print a short summary of a corridor.
+pub(super) fn summary(sc: &Scenario, c: &Corridor) {
+    let inside = c.points.iter().filter(|p| p.inside).count();
+    let trimmed = c.points.iter().filter(|p| p.trimmed).count();
+    println!(
+        "corridor: {} ({}), {} x {} grid: {} speeds {:.1}..{:.1} m/s, {} {:.1}..{:.1} deg",
+        sc.file.name,
+        sc.vehicle.name,
+        c.speeds_mps.len(),
+        c.values_deg.len(),
+        c.speeds_mps.len(),
+        c.speeds_mps[0],
+        c.speeds_mps[c.speeds_mps.len() - 1],
+        c.variable.name(),
+        c.values_deg[0],
+        c.values_deg[c.values_deg.len() - 1],
+    );
+    println!("  trim: {}", c.condition);
+    if let Some((lo, hi)) = c.pitch_limits_deg {
+        println!("  pitch attitude allowed inside: {lo:.1}..{hi:.1} deg");
+    }
+    println!(
+        "  {} of {} points trimmed, {} inside the corridor",
+        trimmed,
+        c.points.len(),
+        inside
+    );
+    let bands = c.speed_bands();
+    if bands.is_empty() {
+        println!("  no speed has a point inside the corridor");
+    } else {
+        let b: Vec<String> = bands
+            .iter()
+            .map(|(a, b)| format!("{a:.2}..{b:.2}"))
+            .collect();
+        println!("  speeds with a point inside: {} m/s", b.join(", "));
+    }
+    // Per speed a few rows: the inside range and the best point.
+    println!(
+        "   V_mps  inside {} range (deg)           best point",
+        c.variable.name()
+    );
+    let stride = (c.speeds_mps.len() / 12).max(1);
+    for i in (0..c.speeds_mps.len()).step_by(stride) {
+        let ins: Vec<usize> = (0..c.values_deg.len())
+            .filter(|&j| c.at(i, j).inside)
+            .collect();
+        let range = if ins.is_empty() {
+            "none".to_string()
+        } else {
+            format!(
+                "{:.1}..{:.1}{}",
+                c.values_deg[ins[0]],
+                c.values_deg[ins[ins.len() - 1]],
+                if ins.len() < ins[ins.len() - 1] - ins[0] + 1 {
+                    " (gaps)"
+                } else {
+                    ""
+                }
+            )
+        };
+        let best = ins.iter().map(|&j| c.at(i, j)).max_by(|a, b| {
+            a.smallest_margin
+                .unwrap_or(f64::INFINITY)
+                .total_cmp(&b.smallest_margin.unwrap_or(f64::INFINITY))
+        });
+        println!(
+            "  {:6.2}  {:<32} {}",
+            c.speeds_mps[i],
+            range,
+            best.map_or(String::new(), describe)
+        );
+    }
+    let reasons = c.reason_counts();
+    if !reasons.is_empty() {
+        println!("  outside the corridor because of:");
+        for (r, n) in reasons {
+            println!("    {r:<40} {n} points");
+        }
+    }
 }
 
 /// Run `corridor`.
 pub fn run(a: CorridorArgs) -> Result<(), CliError> {
-    Err(CliError::Analysis(format!("{} is not built yet", a.scenario.display())))
+    let sc = load_scenario(&a.scenario)?;
+    let s = settings(&sc, a.speed_step, a.value_step, a.pitch_min, a.pitch_max)?;
+    let c = compute_with_bar(&sc, &s)?;
+    summary(&sc, &c);
+    let dir = a.out.unwrap_or_else(|| sc.output_dir());
+    let files = write_corridor(&dir, &sc, &c)?;
+    for f in files {
+        println!("wrote {}", f.display());
+    }
+    println!("{}", hoverline::output::CAUTION);
+    if a.json {
+        super::print_json(&c)?;
+    }
+    Ok(())
 }

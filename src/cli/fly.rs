@@ -1,17 +1,97 @@
-//! `hoverline fly` (being written).
+//! `hoverline fly SCENARIO [--schedule FILE] [--out DIR] [--back] [--json]`
+
+use std::path::PathBuf;
 
 use clap::Args;
 
-use super::CliError;
+use super::{print_json, CliError};
+use hoverline::flight::{fly, FeedforwardTable, FlightSettings, Manoeuvre};
+use hoverline::input::InputError;
+use hoverline::scenario::{load_scenario, load_schedule_file};
+use hoverline::sweep::{run_sweep, SweepSettings};
+use hoverline::trim::Objective;
 
 /// Arguments of `fly`.
 #[derive(Debug, Args)]
 pub struct FlyArgs {
     /// Scenario file (TOML)
-    scenario: std::path::PathBuf,
+    scenario: PathBuf,
+    /// Schedule file to fly instead of the scenario's (as written by `hoverline schedule`)
+    #[arg(long, value_name = "FILE")]
+    schedule: Option<PathBuf>,
+    /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Fly cruise to hover instead of hover to cruise
+    #[arg(long)]
+    back: bool,
+    /// Print the summary and events as JSON instead of text
+    #[arg(long)]
+    json: bool,
 }
 
 /// Run `fly`.
 pub fn run(a: FlyArgs) -> Result<(), CliError> {
-    Err(CliError::Analysis(format!("{} is not built yet", a.scenario.display())))
+    let sc = load_scenario(&a.scenario)?;
+    let schedule = match &a.schedule {
+        Some(p) => load_schedule_file(p, &sc.vehicle)?,
+        None => sc.schedule.clone(),
+    };
+    let settings = FlightSettings::from_scenario(&sc).map_err(|inv| {
+        let text = std::fs::read_to_string(&a.scenario).unwrap_or_default();
+        CliError::Input(InputError::from_invalid(&a.scenario, &text, inv))
+    })?;
+    let atm = hoverline::atmosphere::isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let sweep_settings = SweepSettings {
+        speeds_mps: sc.speeds_mps.clone(),
+        climb_rad: sc.climb_rad,
+        schedule: schedule.clone(),
+        objective: Objective::Power,
+        thresholds: sc.file.thresholds.clone(),
+    };
+    let bar = indicatif::ProgressBar::new(sweep_settings.speeds_mps.len() as u64);
+    bar.set_style(
+        indicatif::ProgressStyle::with_template("{prefix} [{bar:30}] {pos}/{len} {msg}")
+            .unwrap_or_else(|_| indicatif::ProgressStyle::default_bar()),
+    );
+    bar.set_prefix("trimming");
+    bar.set_message("speeds");
+    let sweep = run_sweep(&sc.vehicle, &atm, &sweep_settings, &|| bar.inc(1));
+    let table =
+        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &schedule, &settings.gains)
+            .map_err(|e| CliError::Analysis(e.to_string()))?;
+    bar.set_prefix("flying");
+    bar.set_message("% of the flight");
+    bar.set_length(100);
+    bar.set_position(0);
+    let manoeuvre = if a.back {
+        Manoeuvre::CruiseToHover
+    } else {
+        Manoeuvre::HoverToCruise
+    };
+    let flight = fly(&sc.vehicle, &atm, &table, &settings, manoeuvre, &|f| {
+        bar.set_position((100.0 * f) as u64)
+    })
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
+    bar.finish_and_clear();
+    let dir = a.out.unwrap_or_else(|| sc.output_dir());
+    let files = hoverline::output::flight_files::write(&dir, &sc, &table, &sweep, &flight)?;
+    if a.json {
+        print_json(&hoverline::output::flight_files::document(
+            &sc, &sweep, &flight,
+        ))?;
+    } else {
+        print!(
+            "{}",
+            hoverline::output::flight_files::text(&sc, &sweep, &flight)
+        );
+        for f in files {
+            println!("wrote {}", f.display());
+        }
+    }
+    Ok(())
 }

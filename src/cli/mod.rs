@@ -3,6 +3,7 @@
 mod check;
 mod corridor;
 mod fly;
+mod report;
 mod schedule;
 mod sweep;
 mod trim;
@@ -41,6 +42,8 @@ enum Command {
     Schedule(schedule::ScheduleArgs),
     /// Fly the transition in time (hover to cruise, or back); write flight.csv, flight.json and plots
     Fly(fly::FlyArgs),
+    /// Run sweep, corridor, schedule and flight; write one self-contained report.html with the data files
+    Report(report::ReportArgs),
 }
 
 /// What can go wrong in a command.
@@ -79,6 +82,7 @@ pub fn run(args: Args) -> Result<(), CliError> {
         Command::Corridor(a) => corridor::run(a),
         Command::Schedule(a) => schedule::run(a),
         Command::Fly(a) => fly::run(a),
+        Command::Report(a) => report::run(a),
     }
 }
 

@@ -1,17 +1,156 @@
-//! `hoverline schedule` (being written).
+//! `hoverline schedule SCENARIO`: compute the corridor, build the schedule with the largest
+//! smallest margin through it, compare it with the scenario's own, write schedule.toml (the
+//! scenario's `[schedule]` format), schedule.csv, schedule.json and plots.
+
+use std::path::PathBuf;
 
 use clap::Args;
 
+use super::corridor::{compute_with_bar, settings};
 use super::CliError;
+use hoverline::output::corridor_files::{describe, write_schedule};
+use hoverline::scenario::load_scenario;
+use hoverline::schedule::{build, verdict, ScheduleSettings};
 
 /// Arguments of `schedule`.
 #[derive(Debug, Args)]
 pub struct ScheduleArgs {
     /// Scenario file (TOML)
-    scenario: std::path::PathBuf,
+    scenario: PathBuf,
+    /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+    /// Airspeed step of the corridor grid (m/s; default half the scenario's sweep step)
+    #[arg(long, value_name = "MPS")]
+    speed_step: Option<f64>,
+    /// Step of the transition variable (deg; default 1)
+    #[arg(long, value_name = "DEG")]
+    value_step: Option<f64>,
+    /// Lowest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pitch_min: Option<f64>,
+    /// Highest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
+    pitch_max: Option<f64>,
+    /// Speed spacing of the schedule's knots (m/s; default 1)
+    #[arg(long, value_name = "MPS")]
+    knot_spacing: Option<f64>,
+    /// Skip the continuous refinement (grid optimum only)
+    #[arg(long)]
+    no_refine: bool,
+    /// Print the result as JSON on stdout as well
+    #[arg(long)]
+    json: bool,
 }
 
 /// Run `schedule`.
 pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
-    Err(CliError::Analysis(format!("{} is not built yet", a.scenario.display())))
+    let sc = load_scenario(&a.scenario)?;
+    let s = settings(&sc, a.speed_step, a.value_step, a.pitch_min, a.pitch_max)?;
+    let mut ss = ScheduleSettings::for_scenario(&sc);
+    if let Some(k) = a.knot_spacing {
+        if !(k.is_finite() && k > 0.0) {
+            return Err(CliError::Usage(format!(
+                "--knot-spacing: {k} is not a positive speed\n  hint: give a spacing such as 1.0"
+            )));
+        }
+        ss.knot_spacing_mps = k;
+    }
+    ss.refine = !a.no_refine;
+    let c = compute_with_bar(&sc, &s)?;
+    let atm = hoverline::atmosphere::isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule)
+        .map_err(|e| CliError::Analysis(e.to_string()))?;
+
+    let k = &b.constraints;
+    println!(
+        "schedule: {} ({}), {} against airspeed",
+        sc.file.name,
+        sc.vehicle.name,
+        b.variable.name()
+    );
+    println!(
+        "  constraints: non-increasing; |d/dV| <= {:.2} deg per m/s ({:.1} deg/s at {:.2} m/s^2); |d2/dV2| <= {:.2} deg per (m/s)^2; knots every {:.2} m/s",
+        k.max_slope_deg_per_mps, k.rate_limit_deg_s, k.acceleration_mps2, k.smoothness_deg_per_mps2, k.knot_spacing_mps
+    );
+    println!("   V_mps  {:>8}", format!("{}_deg", b.variable.name()));
+    for (v, y) in b.speed_mps.iter().zip(&b.value_deg) {
+        println!("  {v:6.2}  {y:8.2}");
+    }
+    match &b.left_corridor {
+        None => println!(
+            "  smallest margin on the grid (dynamic programming): {:.3}",
+            b.grid_smallest_margin
+        ),
+        Some(note) => println!("  NOTE: {note}"),
+    }
+    println!("  worst point, re-trimmed: {}", describe(&b.worst));
+    if b.built.outside > 0 {
+        println!(
+            "  {} re-trimmed points fall outside the corridor",
+            b.built.outside
+        );
+    }
+    if !b.short_of_acceleration.is_empty() {
+        let s: Vec<String> = b
+            .short_of_acceleration
+            .iter()
+            .map(|(a, b)| format!("{a:.1}..{b:.1}"))
+            .collect();
+        println!(
+            "  acceleration available below the planned {:.2} m/s^2 at {} m/s",
+            k.acceleration_mps2,
+            s.join(", ")
+        );
+    }
+    match &b.scenario {
+        Some(o) => {
+            println!("  compared with {}:", o.label);
+            println!("    its worst point: {}", describe(&o.worst));
+            if o.outside > 0 {
+                println!(
+                    "    {} of its points are outside the corridor ({} untrimmable)",
+                    o.outside, o.untrimmed
+                );
+            }
+            for band in &b.comparison {
+                let d = match (band.mean_difference, band.largest_difference) {
+                    (Some(m), Some(l)) => {
+                        format!(", margin difference mean {m:+.3}, largest {l:+.3}")
+                    }
+                    _ => String::new(),
+                };
+                let who = match band.better.as_str() {
+                    "built" => "built is better",
+                    "scenario" => "scenario's is better",
+                    _ => "equal",
+                };
+                println!(
+                    "    {:6.2}..{:6.2} m/s: {who}{d}",
+                    band.from_mps, band.to_mps
+                );
+            }
+            if let Some((better, why)) = verdict(&b) {
+                println!(
+                    "  the built schedule is {}: {why}",
+                    if better { "better" } else { "NOT better" }
+                );
+            }
+        }
+        None => println!("  the scenario has no schedule of this kind to compare with"),
+    }
+    let dir = a.out.unwrap_or_else(|| sc.output_dir());
+    let files = write_schedule(&dir, &sc, &c, &b)?;
+    for f in files {
+        println!("wrote {}", f.display());
+    }
+    println!("{}", hoverline::output::CAUTION);
+    if a.json {
+        super::print_json(&b)?;
+    }
+    Ok(())
 }

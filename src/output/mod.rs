@@ -12,4 +12,5 @@ Defer to the applicable airworthiness authority, local aviation rules and licens
 pub mod corridor_files;
 pub mod flight_files;
 pub mod plots;
+pub mod report;
 pub mod sweep_files;

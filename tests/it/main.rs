@@ -3,7 +3,10 @@
 
 mod aero_checks;
 mod atmosphere_checks;
+mod corridor_checks;
 mod dynamics_checks;
 mod rotor_checks;
+mod report_checks;
 mod trim_checks;
 mod vehicle_checks;
+mod flight_checks;

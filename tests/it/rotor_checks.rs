@@ -90,7 +90,12 @@ fn worked_example_climb() {
         assert_rel(p.ideal_power_w, p_ideal, REL, "climb P_ideal");
         // FM applies to the induced part; the climb part T Vc is useful work (definition of
         // the FigureOfMerit model: P = T Vc + T v_i / FM, which is T v_h / FM in hover).
-        assert_rel(p.shaft_power_w, THRUST_N * vc + THRUST_N * vi / 0.7, REL, "climb shaft power");
+        assert_rel(
+            p.shaft_power_w,
+            THRUST_N * vc + THRUST_N * vi / 0.7,
+            REL,
+            "climb shaft power",
+        );
         // InducedFactor: kappa T v_i + T Vc.
         let k = perf(vc, 0.0, PowerModel::InducedFactor(1.15));
         assert_rel(

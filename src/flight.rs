@@ -1,1 +1,0 @@
-//! flight (being written).

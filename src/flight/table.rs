@@ -1,0 +1,291 @@
+//! The feedforward table: trim points along the schedule (pitch attitude, thrusts, elevators,
+//! tilt) with the allocation of the feedback law at each, interpolated linearly in airspeed.
+//!
+//! Untrimmable points stay in the table (they mark where the vehicle leaves the corridor) but
+//! the interpolation skips them and bridges between the trimmed neighbours. With a tilt
+//! schedule the tilt command is the schedule itself at the measured airspeed.
+
+use nalgebra::Matrix4;
+
+use super::law::{allocation, feedback_inputs, Allocation, FeedbackGains, MAX_INPUTS};
+use super::FlightError;
+use crate::dynamics::{Controls, State};
+use crate::linear::LinearModel;
+use crate::scenario::Schedule;
+use crate::sweep::PointReport;
+use crate::vehicle::Vehicle;
+
+/// One trim point as the table needs it.
+#[derive(Debug, Clone)]
+pub struct TrimPoint {
+    /// Airspeed (m/s).
+    pub speed_mps: f64,
+    /// Whether the point is trimmed.
+    pub trimmed: bool,
+    /// Why it is untrimmable or unsafe (text).
+    pub reasons: Vec<String>,
+    /// Trim state (still air).
+    pub state: State,
+    /// Trim controls.
+    pub controls: Controls,
+    /// Linear model (trimmed points only).
+    pub linear: Option<LinearModel>,
+}
+
+/// A point of the table.
+#[derive(Debug, Clone)]
+pub struct TablePoint {
+    /// The trim point.
+    pub trim: TrimPoint,
+    /// Allocation of the feedback law (zero when untrimmed).
+    pub allocation: Allocation,
+}
+
+/// Feedforward at one airspeed (fixed size: computed in the integrator's right-hand side).
+#[derive(Debug, Clone, Copy)]
+pub struct Feedforward {
+    /// Pitch attitude (rad).
+    pub pitch_rad: f64,
+    /// Feedback inputs: thrust per rotor (N), then elevators (rad).
+    pub inputs: [f64; MAX_INPUTS],
+    /// Tilt of each actuator (rad).
+    pub tilt_rad: [f64; MAX_INPUTS],
+    /// Allocation.
+    pub allocation: Allocation,
+    /// Index of the table point nearest in speed.
+    pub nearest: usize,
+}
+
+impl Default for Feedforward {
+    fn default() -> Self {
+        Feedforward {
+            pitch_rad: 0.0,
+            inputs: [0.0; MAX_INPUTS],
+            tilt_rad: [0.0; MAX_INPUTS],
+            allocation: Allocation::zero(0),
+            nearest: 0,
+        }
+    }
+}
+
+/// The table.
+#[derive(Debug, Clone)]
+pub struct FeedforwardTable {
+    /// Every point in increasing speed.
+    pub points: Vec<TablePoint>,
+    /// Indices of the trimmed points.
+    trimmed: Vec<usize>,
+    /// The schedule flown.
+    pub schedule: Schedule,
+    /// Thrust groups, elevators, tilt actuators.
+    counts: (usize, usize, usize),
+}
+
+impl FeedforwardTable {
+    /// Build from trim points (any order).
+    pub fn from_points(
+        v: &Vehicle,
+        mut points: Vec<TrimPoint>,
+        schedule: &Schedule,
+    ) -> Result<FeedforwardTable, FlightError> {
+        let n = feedback_inputs(v);
+        if n > MAX_INPUTS || v.actuators.len() > MAX_INPUTS {
+            return Err(FlightError::TooManyInputs {
+                inputs: n.max(v.actuators.len()),
+                max: MAX_INPUTS,
+            });
+        }
+        points.retain(|p| p.speed_mps.is_finite());
+        points.sort_by(|a, b| a.speed_mps.total_cmp(&b.speed_mps));
+        points.dedup_by(|a, b| a.speed_mps == b.speed_mps);
+        let pts: Vec<TablePoint> = points
+            .into_iter()
+            .map(|mut trim| {
+                let allocation = match (&trim.linear, trim.trimmed) {
+                    (Some(lin), true) => allocation(v, &trim.state, &trim.controls, lin),
+                    _ => {
+                        trim.trimmed = false;
+                        Allocation::zero(n)
+                    }
+                };
+                TablePoint { trim, allocation }
+            })
+            .collect();
+        let trimmed: Vec<usize> = (0..pts.len()).filter(|&i| pts[i].trim.trimmed).collect();
+        if trimmed.is_empty() {
+            return Err(FlightError::NoTrimmedPoint);
+        }
+        Ok(FeedforwardTable {
+            points: pts,
+            trimmed,
+            schedule: schedule.clone(),
+            counts: (v.rotors.len(), v.elevators.len(), v.actuators.len()),
+        })
+    }
+
+    /// Build from the points of a sweep (`hoverline sweep` layout).
+    /// (`_gains` is accepted for callers that pass the flight's design; the table itself does
+    /// not depend on it.)
+    pub fn from_sweep(
+        v: &Vehicle,
+        points: &[PointReport],
+        schedule: &Schedule,
+        _gains: &FeedbackGains,
+    ) -> Result<FeedforwardTable, FlightError> {
+        let trims = points.iter().map(|p| trim_point_of_report(v, p)).collect();
+        FeedforwardTable::from_points(v, trims, schedule)
+    }
+
+    /// Lowest and highest table speed (m/s).
+    pub fn speed_range(&self) -> (f64, f64) {
+        (
+            self.points[0].trim.speed_mps,
+            self.points[self.points.len() - 1].trim.speed_mps,
+        )
+    }
+
+    /// The trimmed point nearest to `speed_mps`.
+    pub fn nearest_trimmed(&self, speed_mps: f64) -> &TablePoint {
+        let i = self
+            .trimmed
+            .iter()
+            .copied()
+            .min_by(|&a, &b| {
+                let da = (self.points[a].trim.speed_mps - speed_mps).abs();
+                let db = (self.points[b].trim.speed_mps - speed_mps).abs();
+                da.total_cmp(&db)
+            })
+            .unwrap_or(0);
+        &self.points[i]
+    }
+
+    /// Index of the table point nearest to `speed_mps` (trimmed or not).
+    pub fn nearest(&self, speed_mps: f64) -> usize {
+        let s = speed_mps;
+        let k = self.points.partition_point(|p| p.trim.speed_mps < s);
+        if k == 0 {
+            0
+        } else if k >= self.points.len() {
+            self.points.len() - 1
+        } else {
+            let lo = self.points[k - 1].trim.speed_mps;
+            let hi = self.points[k].trim.speed_mps;
+            if s - lo <= hi - s {
+                k - 1
+            } else {
+                k
+            }
+        }
+    }
+
+    /// Bracketing trimmed points and weight for `speed_mps`.
+    fn bracket(&self, speed_mps: f64) -> (&TablePoint, &TablePoint, f64, f64) {
+        let tr = &self.trimmed;
+        let sp = |i: usize| self.points[tr[i]].trim.speed_mps;
+        let s = if speed_mps.is_finite() {
+            speed_mps
+        } else {
+            0.0
+        };
+        let k = tr.partition_point(|&i| self.points[i].trim.speed_mps < s);
+        let (a, b, t) = if k == 0 {
+            (0, 0, 0.0)
+        } else if k >= tr.len() {
+            (tr.len() - 1, tr.len() - 1, 0.0)
+        } else {
+            let (lo, hi) = (sp(k - 1), sp(k));
+            (k - 1, k, ((s - lo) / (hi - lo)).clamp(0.0, 1.0))
+        };
+        (&self.points[tr[a]], &self.points[tr[b]], t, s)
+    }
+
+    /// The allocation at airspeed `speed_mps` (gain scheduling on the measured airspeed).
+    pub fn allocation_at(&self, speed_mps: f64) -> Allocation {
+        let (pa, pb, t, _) = self.bracket(speed_mps);
+        Allocation::blend(&pa.allocation, &pb.allocation, t)
+    }
+
+    /// Scheduled tilt of actuator `i` at airspeed `speed_mps` (rad).
+    pub fn tilt_at(&self, speed_mps: f64, i: usize) -> f64 {
+        let (pa, pb, t, s) = self.bracket(speed_mps);
+        match &self.schedule {
+            Schedule::Tilt(tab) => tab.at(s),
+            _ => (1.0 - t) * pa.trim.controls.tilt_rad[i] + t * pb.trim.controls.tilt_rad[i],
+        }
+    }
+
+    /// Feedforward at airspeed `speed_mps` into `out` (no allocation).
+    pub fn at(&self, speed_mps: f64, out: &mut Feedforward) {
+        let (pa, pb, t, s) = self.bracket(speed_mps);
+        let (nt, ne, na) = self.counts;
+        out.pitch_rad = (1.0 - t) * pa.trim.state.theta_rad + t * pb.trim.state.theta_rad;
+        for j in 0..nt + ne {
+            out.inputs[j] = (1.0 - t) * pa.trim.controls.flat(j) + t * pb.trim.controls.flat(j);
+        }
+        for i in 0..na {
+            out.tilt_rad[i] = match &self.schedule {
+                Schedule::Tilt(tab) => tab.at(s),
+                _ => (1.0 - t) * pa.trim.controls.tilt_rad[i] + t * pb.trim.controls.tilt_rad[i],
+            };
+        }
+        out.allocation = Allocation::blend(&pa.allocation, &pb.allocation, t);
+        out.nearest = self.nearest(s);
+    }
+}
+
+/// Rebuild the trim point of a sweep report (controls from the actuator list, state from
+/// pitch and angle of attack in still air, A and B from the matrices).
+pub fn trim_point_of_report(v: &Vehicle, p: &PointReport) -> TrimPoint {
+    let mut controls = Controls::zeros(v);
+    let find = |kind: &str, name: &str| {
+        p.actuators
+            .iter()
+            .find(|a| a.kind == kind && a.name == name)
+            .map(|a| a.value)
+    };
+    for (g, r) in v.rotors.iter().enumerate() {
+        controls.thrust_n[g] = find("thrust", &r.name).unwrap_or(0.0) / r.count as f64;
+    }
+    for (k, e) in v.elevators.iter().enumerate() {
+        controls.elevator_rad[k] = find("elevator", &e.name).unwrap_or(0.0).to_radians();
+    }
+    for (k, a) in v.actuators.iter().enumerate() {
+        controls.tilt_rad[k] = find("tilt", &a.name)
+            .unwrap_or(a.max_rad.to_degrees())
+            .to_radians();
+    }
+    let theta = p.pitch_deg.unwrap_or(0.0).to_radians();
+    let alpha = p.alpha_deg.unwrap_or(0.0).to_radians();
+    let state = State {
+        u_mps: p.speed_mps * alpha.cos(),
+        w_mps: p.speed_mps * alpha.sin(),
+        q_rad_s: 0.0,
+        theta_rad: theta,
+    };
+    let linear = match (&p.a_matrix, &p.b_matrix) {
+        (Some(a), Some(b)) if a.len() == 4 && b.len() == 4 => {
+            let am = Matrix4::from_fn(|i, j| a[i].get(j).copied().unwrap_or(0.0));
+            let m = b[0].len();
+            let cols = (0..m)
+                .map(|j| {
+                    [
+                        b[0][j],
+                        b[1].get(j).copied().unwrap_or(0.0),
+                        b[2].get(j).copied().unwrap_or(0.0),
+                        b[3].get(j).copied().unwrap_or(0.0),
+                    ]
+                })
+                .collect();
+            Some(LinearModel { a: am, b: cols })
+        }
+        _ => None,
+    };
+    TrimPoint {
+        speed_mps: p.speed_mps,
+        trimmed: p.trimmed && linear.is_some() && p.pitch_deg.is_some(),
+        reasons: p.reasons.clone(),
+        state,
+        controls,
+        linear,
+    }
+}
