@@ -248,6 +248,39 @@ pub struct FlightFile {
     pub alpha_protection: bool,
     /// Margin of the angle-of-attack protection (deg).
     pub alpha_protection_margin_deg: f64,
+    /// Uncertainties for `hoverline fly --dispersions N`.
+    pub dispersions: DispersionFile,
+}
+
+/// `[flight.dispersions]`: one standard deviation of each uncertainty of the Monte Carlo
+/// dispersion runs (normal, truncated at three standard deviations). The defaults are common
+/// practice for preliminary design, not requirements.
+#[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
+#[serde(deny_unknown_fields, default)]
+pub struct DispersionFile {
+    /// Mass (% of the mass; inertia scales with it).
+    pub mass_pct: f64,
+    /// CG position along body x (m).
+    pub cg_x_m: f64,
+    /// Aerodynamic forces and moments of each surface (% of their value).
+    pub aero_pct: f64,
+    /// Thrust and power available of each rotor group (% of their value).
+    pub thrust_pct: f64,
+    /// Seed of the random sequence (the same seed gives the same runs).
+    pub seed: u64,
+}
+
+impl Default for DispersionFile {
+    fn default() -> Self {
+        // Common practice, no source.
+        DispersionFile {
+            mass_pct: 3.0,
+            cg_x_m: 0.01,
+            aero_pct: 5.0,
+            thrust_pct: 3.0,
+            seed: 1,
+        }
+    }
 }
 
 impl Default for FlightFile {
@@ -279,6 +312,7 @@ impl Default for FlightFile {
             plan_lead_mps: 2.0,
             alpha_protection: true,
             alpha_protection_margin_deg: 2.0,
+            dispersions: DispersionFile::default(),
         }
     }
 }

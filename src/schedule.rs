@@ -21,8 +21,9 @@
 //!
 //! The objective is the bottleneck min over the path of the smallest normalised margin
 //! ([`crate::corridor`]); among the schedules that reach the best bottleneck, the one with the
-//! largest sum of margins (each clamped at [`MARGIN_CAP`] so that no single large margin buys
-//! the rest) is kept.
+//! largest sum of margins over the grid speeds is kept, each margin clamped at [`MARGIN_CAP`]
+//! (twice the threshold: beyond it a point is good enough, and no single large margin buys the
+//! rest); at equal sums the schedule that converts earlier wins ([`EARLY_WEIGHT`]).
 //!
 //! # Method
 //! 1. Dynamic programming over the knots (Bellman's principle; the bottleneck "max-min" path
@@ -69,8 +70,12 @@ pub const PITCH_RATE_LIMIT_DEG_S: f64 = 20.0;
 /// Default speed spacing of the schedule's knots (m/s).
 pub const DEFAULT_KNOT_SPACING_MPS: f64 = 1.0;
 
-/// Clamp on each point's margin in the secondary (sum) objective.
-pub const MARGIN_CAP: f64 = 3.0;
+/// Clamp on each point's margin in the secondary (sum) objective (1 = twice the threshold).
+pub const MARGIN_CAP: f64 = 1.0;
+
+/// Weight of the transition variable (per rad, per grid speed) in the secondary objective: at
+/// equal clamped margins the schedule that converts earlier wins.
+pub const EARLY_WEIGHT: f64 = 1e-3;
 
 /// Offset that ranks a trimmed point outside the corridor below every inside point when no
 /// schedule can stay inside (relaxed mode); the sum pass charges it for every such point.
@@ -297,7 +302,7 @@ fn segment(g: &MarginGrid, c0: usize, c1: usize, y0: f64, y1: f64) -> Option<(f6
         let y = if i == c1 { y1 } else { y0 + t * (y1 - y0) };
         let m = g.at(i, y)?;
         lo = lo.min(m);
-        sum += m.min(MARGIN_CAP);
+        sum += m.min(MARGIN_CAP) - EARLY_WEIGHT * y;
     }
     Some((lo, sum))
 }
@@ -311,7 +316,8 @@ pub struct GridPath {
     pub rows: Vec<usize>,
     /// Bottleneck margin along the path.
     pub smallest_margin: f64,
-    /// Sum of the margins clamped at [`MARGIN_CAP`] over the grid speeds.
+    /// Sum over the grid speeds of the margin clamped at [`MARGIN_CAP`] less
+    /// [`EARLY_WEIGHT`] times the value (rad).
     pub clamped_sum: f64,
 }
 
@@ -345,7 +351,7 @@ fn dp(
     let init = |j: usize| -> f64 {
         match (g.margin[knots[0]][j], floor) {
             (Some(m), None) => m,
-            (Some(m), Some(f)) if m >= f => m.min(MARGIN_CAP),
+            (Some(m), Some(f)) if m >= f => m.min(MARGIN_CAP) - EARLY_WEIGHT * g.values_rad[j],
             _ => neg,
         }
     };
@@ -469,7 +475,8 @@ fn dp(
     }
     let ys: Vec<f64> = rows.iter().map(|&j| y[j]).collect();
     let smallest = path_margin(g, knots, &ys).unwrap_or(neg);
-    let mut sum = g.margin[knots[0]][rows[0]].map_or(0.0, |m| m.min(MARGIN_CAP));
+    let mut sum =
+        g.margin[knots[0]][rows[0]].map_or(0.0, |m| m.min(MARGIN_CAP) - EARLY_WEIGHT * ys[0]);
     for k in 1..kk {
         sum += segment(g, knots[k - 1], knots[k], ys[k - 1], ys[k]).map_or(0.0, |s| s.1);
     }

@@ -28,6 +28,10 @@ pub struct FlyArgs {
     /// Print the summary and events as JSON instead of text
     #[arg(long)]
     json: bool,
+    /// Also fly N dispersed vehicles (mass, CG, aerodynamics, thrust; see [flight.dispersions])
+    /// with the nominal feedforward and feedback, and report the spread
+    #[arg(long, value_name = "N")]
+    dispersions: Option<usize>,
 }
 
 /// Run `fly`.
@@ -77,9 +81,44 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
         bar.set_position((100.0 * f) as u64)
     })
     .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let dispersion = match a.dispersions {
+        Some(0) => {
+            return Err(CliError::Usage(
+                "--dispersions needs at least one run".into(),
+            ))
+        }
+        Some(n) if n > 1_000_000 => {
+            return Err(CliError::Usage(format!(
+                "--dispersions {n}: at most 1000000 runs"
+            )))
+        }
+        Some(n) => {
+            bar.set_prefix("dispersions");
+            bar.set_message("flights");
+            bar.set_length(n as u64);
+            bar.set_position(0);
+            let d = &sc.file.flight.dispersions;
+            Some(hoverline::flight::dispersion::run_dispersions(
+                &sc.vehicle,
+                &atm,
+                &table,
+                &settings,
+                manoeuvre,
+                d,
+                n,
+                &|| bar.inc(1),
+            ))
+        }
+        None => None,
+    };
     bar.finish_and_clear();
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
-    let files = hoverline::output::flight_files::write(&dir, &sc, &table, &sweep, &flight)?;
+    let mut files = hoverline::output::flight_files::write(&dir, &sc, &table, &sweep, &flight)?;
+    if let Some(d) = &dispersion {
+        files.extend(hoverline::output::flight_files::write_dispersions(
+            &dir, &sc, d,
+        )?);
+    }
     if a.json {
         print_json(&hoverline::output::flight_files::document(
             &sc, &sweep, &flight,
@@ -89,6 +128,12 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
             "{}",
             hoverline::output::flight_files::text(&sc, &sweep, &flight)
         );
+        if let Some(d) = &dispersion {
+            print!(
+                "{}",
+                hoverline::output::flight_files::dispersion_text(&sc, d)
+            );
+        }
         for f in files {
             println!("wrote {}", f.display());
         }

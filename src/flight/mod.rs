@@ -30,6 +30,7 @@
 //! departs (non-finite state, pitch rate above 6 rad/s, height 100 m off the reference, speed
 //! far beyond the table) is stopped and reported, never left to run on.
 
+pub mod dispersion;
 pub mod law;
 pub mod sim;
 pub mod summary;
@@ -396,8 +397,8 @@ impl FlightSettings {
             tilt_servo_bandwidth_rad_s: f.tilt_servo_bandwidth_rad_s,
             gains: FeedbackGains::from_file(f),
             steady_wind: Wind {
-                x_mps: -f.headwind_mps,
-                z_mps: -f.updraft_mps,
+                x_mps: 0.0 - f.headwind_mps,
+                z_mps: 0.0 - f.updraft_mps,
             },
             gust: f.gust.clone(),
             stall_load_fraction: f.stall_load_fraction,

@@ -89,6 +89,9 @@ fn protect(
     narrowed
 }
 
+/// Elevator step for the current-state effectiveness, as a fraction of its travel.
+const ELEVATOR_PROBE: f64 = 0.01;
+
 /// Share of the demand left unmet above which the speed and height integrators are held.
 const SHORTFALL_HOLD: f64 = 0.05;
 
@@ -236,6 +239,8 @@ impl Default for Diagnostics {
 pub struct Scratch {
     /// Loads.
     pub eval: Evaluation,
+    /// Loads with one elevator moved (current-state effectiveness).
+    pub probe: Evaluation,
     /// Actuator positions.
     pub controls: Controls,
     /// Feedforward at the current airspeed.
@@ -305,6 +310,7 @@ impl<'a> Sys<'a> {
             },
             scratch: RefCell::new(Scratch {
                 eval: Evaluation::default(),
+                probe: Evaluation::default(),
                 controls: Controls::zeros(v),
                 ff: Feedforward::default(),
                 diag: Diagnostics::default(),
@@ -391,7 +397,7 @@ impl<'a> Sys<'a> {
                 // Feedforward and tilt follow the plan; the allocation is scheduled on the
                 // measured airspeed.
                 table.at(vr, &mut s.ff);
-                let alloc = table.allocation_at(d.airspeed_mps);
+                let mut alloc = table.allocation_at(d.airspeed_mps);
                 let ff = &s.ff;
                 d.table_point = table.nearest(d.airspeed_mps);
                 for (i, x) in d
@@ -417,6 +423,22 @@ impl<'a> Sys<'a> {
                 };
                 evaluate(v, &atm, &state, &s.controls, wind, &mut s.eval);
                 let own_qdot = s.eval.state_dot[2];
+                // Elevator effectiveness at the current state (the trim point's may belong to a
+                // stalled tail and have the wrong sign here): a one-sided difference of the
+                // nonlinear model, stepped away from the nearer limit.
+                let (sth, cth) = th.sin_cos();
+                for (k, e) in v.elevators.iter().enumerate() {
+                    let x0 = s.controls.elevator_rad[k];
+                    let h0 = ELEVATOR_PROBE * (e.max_rad - e.min_rad).max(1e-3);
+                    let hk = if x0 + h0 > e.max_rad { -h0 } else { h0 };
+                    s.controls.elevator_rad[k] = x0 + hk;
+                    evaluate(v, &atm, &state, &s.controls, wind, &mut s.probe);
+                    s.controls.elevator_rad[k] = x0;
+                    let du = (s.probe.state_dot[0] - s.eval.state_dot[0]) / hk;
+                    let dw = (s.probe.state_dot[1] - s.eval.state_dot[1]) / hk;
+                    let dq = (s.probe.state_dot[2] - s.eval.state_dot[2]) / hk;
+                    alloc.effect[nt + k] = [du * cth + dw * sth, du * sth - dw * cth, dq];
+                }
                 let mut lim = InputLimits {
                     base: ff.inputs,
                     lo: [0.0; MAX_INPUTS],

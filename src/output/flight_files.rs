@@ -9,6 +9,7 @@ use serde::Serialize;
 
 use super::chart::{render, HLine, Panel, Series, Shade};
 use super::files::{write_csv, write_json, WriteError};
+use crate::flight::dispersion::Dispersion;
 use crate::flight::summary::{part_labels, Interval};
 use crate::flight::{Event, FeedforwardTable, Flight, Summary};
 use crate::scenario::Scenario;
@@ -756,4 +757,137 @@ pub fn write(
     out.push(p);
     out.extend(plots(dir, sc, f)?);
     Ok(out)
+}
+
+/// Header and rows of `dispersions.csv` (one row per dispersed flight).
+pub fn dispersion_table(v: &Vehicle, d: &Dispersion) -> (Vec<String>, Vec<Vec<String>>) {
+    let mut h: Vec<String> = ["run", "mass_kg", "cg_shift_x_m"]
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let mut names: Vec<String> = v.surfaces.iter().map(|s| key(&s.name)).collect();
+    if v.derivatives.is_some() {
+        names.push("airframe".into());
+    }
+    for n in &names {
+        h.push(format!("aero_scale_{n}"));
+    }
+    for r in &v.rotors {
+        h.push(format!("thrust_scale_{}", key(&r.name)));
+    }
+    for x in [
+        "transition_time_s",
+        "height_lost_m",
+        "height_gained_m",
+        "energy_j",
+    ] {
+        h.push(x.to_string());
+    }
+    for n in &names {
+        h.push(format!("time_beyond_stall_{n}_s"));
+    }
+    h.push("failed".into());
+    let rows = d
+        .flights
+        .iter()
+        .map(|f| {
+            let mut r = vec![
+                f.draw.index.to_string(),
+                cell(f.draw.mass_kg),
+                cell(f.draw.cg_shift_x_m),
+            ];
+            r.extend(f.draw.aero_scale.iter().map(|x| cell(*x)));
+            r.extend(f.draw.thrust_scale.iter().map(|x| cell(*x)));
+            r.push(f.transition_time_s.map_or(String::new(), cell));
+            r.push(cell(f.height_lost_m));
+            r.push(cell(f.height_gained_m));
+            r.push(cell(f.energy_j));
+            r.extend(f.time_beyond_stall_s.iter().map(|x| cell(*x)));
+            r.push(f.failed.clone().unwrap_or_default());
+            r
+        })
+        .collect();
+    (h, rows)
+}
+
+/// Write `dispersions.csv` and `dispersions.json` into `dir`; returns the files written.
+pub fn write_dispersions(
+    dir: &Path,
+    sc: &Scenario,
+    d: &Dispersion,
+) -> Result<Vec<PathBuf>, WriteError> {
+    #[derive(Serialize)]
+    struct Doc<'a> {
+        tool: String,
+        caution: &'static str,
+        scenario: &'a str,
+        vehicle: &'a str,
+        dispersion: &'a Dispersion,
+    }
+    let (h, rows) = dispersion_table(&sc.vehicle, d);
+    let csv = dir.join("dispersions.csv");
+    write_csv(&csv, &h, &rows)?;
+    let json = dir.join("dispersions.json");
+    write_json(
+        &json,
+        &Doc {
+            tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
+            caution: super::CAUTION,
+            scenario: &sc.file.name,
+            vehicle: &sc.vehicle.name,
+            dispersion: d,
+        },
+    )?;
+    Ok(vec![csv, json])
+}
+
+/// The terminal summary of a dispersion run.
+pub fn dispersion_text(sc: &Scenario, d: &Dispersion) -> String {
+    let mut o = String::new();
+    let s = &d.settings;
+    let _ = writeln!(
+        o,
+        "\ndispersions: {} flights of {} (1 sd: mass {:.1} %, CG {:.3} m, surface forces {:.1} %, thrust and power {:.1} %; seed {}), nominal feedforward and feedback",
+        d.flights.len(),
+        sc.vehicle.name,
+        s.mass_pct,
+        s.cg_x_m,
+        s.aero_pct,
+        s.thrust_pct,
+        s.seed
+    );
+    let _ = writeln!(
+        o,
+        "  completed the transition: {} of {}; departed or not flown: {}",
+        d.completed,
+        d.flights.len(),
+        d.failed
+    );
+    let _ = writeln!(
+        o,
+        "  {:<34} {:>6} {:>9} {:>9} {:>9} {:>9} {:>9} {:>9}",
+        "figure", "runs", "mean", "sd", "min", "p5", "p95", "max"
+    );
+    for x in &d.spreads {
+        let f = |v: f64| {
+            if v.is_finite() {
+                format!("{v:.2}")
+            } else {
+                "-".into()
+            }
+        };
+        let _ = writeln!(
+            o,
+            "  {:<34} {:>6} {:>9} {:>9} {:>9} {:>9} {:>9} {:>9}",
+            x.name,
+            x.count,
+            f(x.mean),
+            f(x.std_dev),
+            f(x.min),
+            f(x.p5),
+            f(x.p95),
+            f(x.max)
+        );
+    }
+    o
 }

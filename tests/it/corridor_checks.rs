@@ -149,6 +149,7 @@ fn tail_sitter_hover_boundary_matches_statics() {
     let c = corridor(&v, &pitch_settings(vec![0.0], pitch.clone()));
     let trimmed: Vec<usize> = (0..pitch.len()).filter(|&j| c.at(0, j).trimmed).collect();
     let lowest = pitch[trimmed[0]];
+    eprintln!("hover: lowest trimmed pitch {lowest} deg, statics {theta_min:.3} deg (kappa {kappa:.4}, T_avail {t_avail:.2} N)");
     assert!(
         lowest >= theta_min - 1e-6 && lowest - step < theta_min,
         "lowest trimmed pitch {lowest} deg, statics give {theta_min:.3} deg"
