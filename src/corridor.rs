@@ -29,10 +29,10 @@
 //!
 //! Stall counts only on surface parts that are loaded, as in [`crate::margins`] (`q_part S_part`
 //! at least [`crate::margins::LOADED_PART_SHARE`] of the weight: in hover the clean part of a
-//! tilted wing sees no flow), and whose flow is not dominated by a rotor wake (the freestream
-//! dynamic pressure at least half of the part's local one). A fixed wing under a tilted rotor
-//! meets the wake at up to 90 deg in hover: that is the rotor's download, which the trim
-//! carries as a force, not a stall of a lifting surface (see [`wake_dominated`]).
+//! tilted wing sees no flow), and that are not in download (a wake-dominated part with its flow
+//! more than 45 deg off the chord, see [`crate::margins::part_counts_for_stall`]): a fixed wing
+//! under a tilted rotor meets the wake at up to 90 deg in hover, which is the rotor's download,
+//! carried by the trim as a force, not a stall of a lifting surface.
 //!
 //! # Inside the corridor
 //! A point is inside when it is trimmed and no hard limit is crossed: for tilt vehicles the
@@ -575,15 +575,9 @@ pub fn normalise(margin: f64, threshold: f64) -> Option<f64> {
     (threshold > 1e-12 && margin.is_finite()).then(|| margin / threshold - 1.0)
 }
 
-/// Whether a surface part's flow is dominated by a rotor wake: the part is immersed and the
-/// freestream dynamic pressure is below half of its local one.
-pub fn wake_dominated(part: &crate::dynamics::PartLoad, freestream_q_pa: f64) -> bool {
-    part.rotor.is_some() && freestream_q_pa < 0.5 * part.dynamic_pressure_pa
-}
-
-/// Smallest stall margin (deg) of every surface over the parts that count for the corridor:
-/// loaded ([`margins::part_is_loaded`]) and not wake-dominated ([`wake_dominated`]). Surfaces
-/// with no such part are left out.
+/// Smallest stall margin (deg) of every surface over the parts whose stall counts
+/// ([`margins::part_counts_for_stall`]: loaded and not in download). Surfaces with no such
+/// part are left out.
 pub fn stall_margins_deg(v: &Vehicle, atm: &Atmosphere, sol: &TrimSolution) -> Vec<(String, f64)> {
     let e = &sol.evaluation;
     let w = v.weight_n();
@@ -594,7 +588,7 @@ pub fn stall_margins_deg(v: &Vehicle, atm: &Atmosphere, sol: &TrimSolution) -> V
         let m = e
             .surface_parts(i)
             .iter()
-            .filter(|p| margins::part_is_loaded(p, s.area_m2, w) && !wake_dominated(p, q_inf))
+            .filter(|p| margins::part_counts_for_stall(p, s.area_m2, w, q_inf))
             .map(|p| (pos - p.alpha_rad).min(p.alpha_rad - neg))
             .fold(None, |a: Option<f64>, b| Some(a.map_or(b, |a| a.min(b))));
         if let Some(m) = m {

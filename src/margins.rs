@@ -5,7 +5,9 @@
 //! - Stall margin: degrees from the local angle of attack of each immersed or clean part to
 //!   its positive and negative stall angle; the smaller of the two; negative when stalled.
 //!   Only parts whose dynamic-pressure load q S_part reaches [`LOADED_PART_SHARE`] of the
-//!   weight count (in hover the clean part of a wing sees no flow at all).
+//!   weight count (in hover the clean part of a wing sees no flow at all), and a part in
+//!   download (wake-dominated, flow more than 45 deg off the chord) is not counted as stalled
+//!   ([`part_counts_for_stall`]).
 //! - Thrust margin: (T_available - T) / T_available, with T_available limited by the thrust
 //!   cap and by the power available at the current inflow (momentum theory, Glauert).
 //! - Power margin: (P_available - P) / P_available.
@@ -57,6 +59,30 @@ pub const LOADED_PART_SHARE: f64 = 0.005;
 /// Whether a surface part of total area `area_m2` carries enough dynamic pressure to count.
 pub fn part_is_loaded(p: &crate::dynamics::PartLoad, area_m2: f64, weight_n: f64) -> bool {
     p.fraction > 0.0 && p.dynamic_pressure_pa * area_m2 * p.fraction >= LOADED_PART_SHARE * weight_n
+}
+
+/// Angle beyond which a wake-dominated part is in download rather than stalled (rad).
+pub const DOWNLOAD_ALPHA_RAD: f64 = std::f64::consts::FRAC_PI_4;
+
+/// Whether a part's flow is dominated by a rotor wake: the part is immersed and the freestream
+/// dynamic pressure is below half of its local one.
+pub fn wake_dominated(p: &crate::dynamics::PartLoad, freestream_q_pa: f64) -> bool {
+    p.rotor.is_some() && freestream_q_pa < 0.5 * p.dynamic_pressure_pa
+}
+
+/// Whether a part's stall counts: it is loaded ([`part_is_loaded`]) and not in download. A
+/// fixed wing under a rotor meets the wake at up to 90 deg in hover; that separated flow is the
+/// rotor's download, which the trim carries as a force, not a stall of a lifting surface. A
+/// wake-dominated part flown edge-on to its wake (a tilt-wing, a tail-sitter's elevons) still
+/// counts: its stall is the one that matters there.
+pub fn part_counts_for_stall(
+    p: &crate::dynamics::PartLoad,
+    area_m2: f64,
+    weight_n: f64,
+    freestream_q_pa: f64,
+) -> bool {
+    part_is_loaded(p, area_m2, weight_n)
+        && !(wake_dominated(p, freestream_q_pa) && p.alpha_rad.abs() > DOWNLOAD_ALPHA_RAD && p.alpha_rad.abs() < std::f64::consts::PI - DOWNLOAD_ALPHA_RAD)
 }
 
 /// Thrust and power margin of one rotor group.
@@ -171,7 +197,9 @@ pub fn margins(
         let (pos, neg) = s.polar.stall_angles_rad();
         let parts = e.surface_parts(i);
         let w = v.weight_n();
-        let loaded = parts.iter().any(|p| part_is_loaded(p, s.area_m2, w));
+        let q_inf = 0.5 * atm.density_kg_m3 * e.airspeed_mps * e.airspeed_mps;
+        let counts = |p: &crate::dynamics::PartLoad| part_counts_for_stall(p, s.area_m2, w, q_inf);
+        let loaded = parts.iter().any(counts);
         let mut best = f64::INFINITY;
         let mut crit_alpha = parts[0].alpha_rad;
         let mut crit_name = "clean".to_string();
@@ -196,7 +224,7 @@ pub fn margins(
         }
         // The clean part when it carries load; otherwise the critical (immersed) part.
         let clean = &parts[0];
-        let shown_alpha = if !loaded || part_is_loaded(clean, s.area_m2, w) {
+        let shown_alpha = if !loaded || counts(clean) {
             clean.alpha_rad
         } else {
             crit_alpha

@@ -155,7 +155,10 @@ impl Default for Thresholds {
             pitch_accel_rad_s2: 0.5,
             elevator_margin_deg: 2.0,
             static_margin_pct: 5.0,
-            time_to_double_s: 2.0,
+            // Bare-airframe hover modes of VTOL vehicles typically double in 1-3 s and are
+            // stabilised by the flight-control system; faster growth needs a high-bandwidth
+            // loop (common practice, no source).
+            time_to_double_s: 1.0,
             // MIL-F-9490D flight-control stability margins (from memory).
             gain_margin_db: 6.0,
             phase_margin_deg: 45.0,

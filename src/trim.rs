@@ -295,7 +295,7 @@ impl<'a> Problem<'a> {
         };
         let objective = match self.req.objective {
             Objective::Power => self.eval.power_w / self.power_scale,
-            Objective::StallMargin => -smallest_stall_margin_rad(self.v, &self.eval),
+            Objective::StallMargin => -smallest_stall_margin_rad(self.v, self.atm.density_kg_m3, &self.eval),
         };
         Point3 {
             r,
@@ -309,14 +309,16 @@ fn norm_inf(r: &[f64; 3], m: usize) -> f64 {
     r[..m].iter().fold(0.0, |a, &b| a.max(b.abs()))
 }
 
-/// Smallest stall margin (rad) over all loaded surface parts, positive when unstalled.
-pub fn smallest_stall_margin_rad(v: &Vehicle, e: &Evaluation) -> f64 {
+/// Smallest stall margin (rad) over the surface parts whose stall counts
+/// ([`crate::margins::part_counts_for_stall`]), positive when unstalled.
+pub fn smallest_stall_margin_rad(v: &Vehicle, density_kg_m3: f64, e: &Evaluation) -> f64 {
     let mut best = f64::INFINITY;
     let w = v.weight_n();
+    let q_inf = 0.5 * density_kg_m3 * e.airspeed_mps * e.airspeed_mps;
     for (i, s) in v.surfaces.iter().enumerate() {
         let (pos, neg) = s.polar.stall_angles_rad();
         for p in e.surface_parts(i) {
-            if crate::margins::part_is_loaded(p, s.area_m2, w) {
+            if crate::margins::part_counts_for_stall(p, s.area_m2, w, q_inf) {
                 best = best.min((pos - p.alpha_rad).min(p.alpha_rad - neg));
             }
         }
@@ -883,7 +885,7 @@ pub fn trim(
         path_accel_mps2: path_accel,
         objective_value: match req.objective {
             Objective::Power => p.eval.power_w,
-            Objective::StallMargin => smallest_stall_margin_rad(v, &p.eval).to_degrees(),
+            Objective::StallMargin => smallest_stall_margin_rad(v, atm.density_kg_m3, &p.eval).to_degrees(),
         },
         iterations,
         evaluations: p.evals,

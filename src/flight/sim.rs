@@ -424,19 +424,24 @@ impl<'a> Sys<'a> {
                 evaluate(v, &atm, &state, &s.controls, wind, &mut s.eval);
                 let own_qdot = s.eval.state_dot[2];
                 // Elevator effectiveness at the current state (the trim point's may belong to a
-                // stalled tail and have the wrong sign here): a one-sided difference of the
-                // nonlinear model, stepped away from the nearer limit.
+                // stalled tail and have the wrong sign here): a central difference of the
+                // nonlinear model about the feedforward deflection, the pair of probes kept
+                // inside the travel so the result is continuous in the state.
                 let (sth, cth) = th.sin_cos();
                 for (k, e) in v.elevators.iter().enumerate() {
                     let x0 = s.controls.elevator_rad[k];
-                    let h0 = ELEVATOR_PROBE * (e.max_rad - e.min_rad).max(1e-3);
-                    let hk = if x0 + h0 > e.max_rad { -h0 } else { h0 };
-                    s.controls.elevator_rad[k] = x0 + hk;
+                    let h = ELEVATOR_PROBE * (e.max_rad - e.min_rad).max(1e-3);
+                    let c = x0.clamp(e.min_rad + h, e.max_rad - h);
+                    s.controls.elevator_rad[k] = c + h;
                     evaluate(v, &atm, &state, &s.controls, wind, &mut s.probe);
+                    let up = s.probe.state_dot;
+                    s.controls.elevator_rad[k] = c - h;
+                    evaluate(v, &atm, &state, &s.controls, wind, &mut s.probe);
+                    let dn = s.probe.state_dot;
                     s.controls.elevator_rad[k] = x0;
-                    let du = (s.probe.state_dot[0] - s.eval.state_dot[0]) / hk;
-                    let dw = (s.probe.state_dot[1] - s.eval.state_dot[1]) / hk;
-                    let dq = (s.probe.state_dot[2] - s.eval.state_dot[2]) / hk;
+                    let du = (up[0] - dn[0]) / (2.0 * h);
+                    let dw = (up[1] - dn[1]) / (2.0 * h);
+                    let dq = (up[2] - dn[2]) / (2.0 * h);
                     alloc.effect[nt + k] = [du * cth + dw * sth, du * sth - dw * cth, dq];
                 }
                 let mut lim = InputLimits {
@@ -518,6 +523,9 @@ impl<'a> Sys<'a> {
                     out = law(gains, &alloc, &inp, Some(&lim));
                 }
                 thrust_limit = lim.hi;
+                if std::env::var("FLY_DBG").is_ok() && t > 17.55 {
+                    eprintln!("t {t:.9} V {:.4} eff {:?} delta {:?} fixed {:?} off {:.4} short {:.3} lim {:?}/{:?} own {own_qdot:.3}", d.airspeed_mps, &alloc.effect[..nt+ne], &out.delta[..nt+ne], &out.fixed[..nt+ne], out.pitch_offset_rad, out.shortfall, &lim.lo[..nt+ne], &lim.hi[..nt+ne]);
+                }
                 d.pitch_offset_rad = out.pitch_offset_rad;
                 d.pitch_offset_limited = out.pitch_offset_limited;
                 d.pitch_ref_rad = ff.pitch_rad + out.pitch_offset_rad;
