@@ -35,6 +35,8 @@ pub struct SweepSettings {
     pub objective: Objective,
     /// Thresholds for unsafe points.
     pub thresholds: Thresholds,
+    /// Feedback law whose loop margins are computed at every trimmed point (None: skip).
+    pub gains: Option<crate::flight::law::FeedbackGains>,
 }
 
 /// Residual of a point.
@@ -188,6 +190,8 @@ pub struct PointReport {
     pub state_names: Vec<String>,
     /// Linear-model input names.
     pub input_names: Vec<String>,
+    /// Loop margins of the feedback law at each actuator (empty when untrimmed or not asked).
+    pub loop_margins: Vec<crate::loops::LoopMargin>,
     /// A matrix rows (null when untrimmed).
     pub a_matrix: Option<Vec<Vec<f64>>>,
     /// B matrix rows (null when untrimmed).
@@ -253,6 +257,30 @@ pub fn solve_point(
     (report, sol)
 }
 
+/// Add the loop margins of a feedback law to an assessed, trimmed point, with the reasons
+/// where they fall short of the thresholds (MIL-F-9490D defaults: 6 dB, 45 deg).
+pub fn add_loop_margins(
+    v: &Vehicle,
+    atm: &Atmosphere,
+    req: &TrimRequest,
+    sol: &TrimSolution,
+    th: &Thresholds,
+    gains: &crate::flight::law::FeedbackGains,
+    report: &mut PointReport,
+) {
+    if !sol.trimmed() {
+        return;
+    }
+    let lin = linearise(v, atm, &sol.state, &sol.controls);
+    let m = crate::loops::loop_margins(v, &sol.state, &sol.controls, &lin, gains, req.climb_rad);
+    let short = crate::loops::margin_shortfalls(&m, th.gain_margin_db, th.phase_margin_deg);
+    if !short.is_empty() {
+        report.reason_kinds.push("loop margins".into());
+        report.reasons.extend(short);
+    }
+    report.loop_margins = m;
+}
+
 /// Build the report of a solved point: linear model, modes, margins, reasons.
 pub fn assess(
     v: &Vehicle,
@@ -289,6 +317,7 @@ pub fn assess(
         margins: None,
         state_names: STATE_NAMES.iter().map(|s| s.to_string()).collect(),
         input_names: v.input_names(),
+        loop_margins: Vec::new(),
         a_matrix: None,
         b_matrix: None,
     };
@@ -547,6 +576,9 @@ pub fn run_sweep(
                 }
                 let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
                 stalled_run = if stalled { stalled_run + 1 } else { 0 };
+                if let Some(g) = &s.gains {
+                    add_loop_margins(v, atm, &req, &sol, &s.thresholds, g, &mut rep);
+                }
                 if sol.trimmed() {
                     warm = Some(sol.guess());
                 }

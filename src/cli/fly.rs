@@ -56,6 +56,7 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
         schedule: schedule.clone(),
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
+        gains: None,
     };
     let bar = indicatif::ProgressBar::new(sweep_settings.speeds_mps.len() as u64);
     bar.set_style(

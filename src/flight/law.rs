@@ -30,9 +30,7 @@
 //!
 //! Allocation (weighted minimum-norm pseudo-inverse, damped, then redistributed at limits): the
 //! effectiveness of each input on `[a_x, a_h, qdot]` comes from the B matrix of the trim point
-//! rotated into earth axes (in flight, the elevators' from the nonlinear model at the current
-//! state, since a tail stalled in trim but not in flight, or the other way round, changes its
-//! sign); the effectiveness of a pitch-attitude change at fixed earth
+//! rotated into earth axes; the effectiveness of a pitch-attitude change at fixed earth
 //! velocity comes from the A matrix, `A[:, theta] - w A[:, u] + u A[:, w]`. Stage A splits
 //! `[a_x, a_h]` between the thrusts and a pitch offset (elevators excluded, they are the pitch
 //! control); stage B spreads what is left plus `qdot` over thrusts and elevators, the pitch
@@ -59,7 +57,7 @@ const HEADROOM_FULL: f64 = 0.05;
 
 /// Smallest allocation weight: an input at a limit in trim still takes demand once the others
 /// are held at their limits.
-const WEIGHT_FLOOR: f64 = 0.02;
+pub const WEIGHT_FLOOR: f64 = 0.02;
 
 /// Damping of the allocation solves, as a fraction of each diagonal element.
 const ALLOCATION_DAMPING: f64 = 1e-3;

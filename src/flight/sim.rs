@@ -89,8 +89,9 @@ fn protect(
     narrowed
 }
 
-/// Elevator step for the current-state effectiveness, as a fraction of its travel.
-const ELEVATOR_PROBE: f64 = 0.01;
+/// Step budget of one integration piece: a regular flight takes well under a hundred steps per
+/// simulated second; inputs chattering between limits take far more, and are stopped here.
+const MAX_STEPS_PER_PIECE: u32 = 60_000;
 
 /// Share of the demand left unmet above which the speed and height integrators are held.
 const SHORTFALL_HOLD: f64 = 0.05;
@@ -239,8 +240,6 @@ impl Default for Diagnostics {
 pub struct Scratch {
     /// Loads.
     pub eval: Evaluation,
-    /// Loads with one elevator moved (current-state effectiveness).
-    pub probe: Evaluation,
     /// Actuator positions.
     pub controls: Controls,
     /// Feedforward at the current airspeed.
@@ -310,7 +309,6 @@ impl<'a> Sys<'a> {
             },
             scratch: RefCell::new(Scratch {
                 eval: Evaluation::default(),
-                probe: Evaluation::default(),
                 controls: Controls::zeros(v),
                 ff: Feedforward::default(),
                 diag: Diagnostics::default(),
@@ -397,7 +395,7 @@ impl<'a> Sys<'a> {
                 // Feedforward and tilt follow the plan; the allocation is scheduled on the
                 // measured airspeed.
                 table.at(vr, &mut s.ff);
-                let mut alloc = table.allocation_at(d.airspeed_mps);
+                let alloc = table.allocation_at(d.airspeed_mps);
                 let ff = &s.ff;
                 d.table_point = table.nearest(d.airspeed_mps);
                 for (i, x) in d
@@ -423,27 +421,6 @@ impl<'a> Sys<'a> {
                 };
                 evaluate(v, &atm, &state, &s.controls, wind, &mut s.eval);
                 let own_qdot = s.eval.state_dot[2];
-                // Elevator effectiveness at the current state (the trim point's may belong to a
-                // stalled tail and have the wrong sign here): a central difference of the
-                // nonlinear model about the feedforward deflection, the pair of probes kept
-                // inside the travel so the result is continuous in the state.
-                let (sth, cth) = th.sin_cos();
-                for (k, e) in v.elevators.iter().enumerate() {
-                    let x0 = s.controls.elevator_rad[k];
-                    let h = ELEVATOR_PROBE * (e.max_rad - e.min_rad).max(1e-3);
-                    let c = x0.clamp(e.min_rad + h, e.max_rad - h);
-                    s.controls.elevator_rad[k] = c + h;
-                    evaluate(v, &atm, &state, &s.controls, wind, &mut s.probe);
-                    let up = s.probe.state_dot;
-                    s.controls.elevator_rad[k] = c - h;
-                    evaluate(v, &atm, &state, &s.controls, wind, &mut s.probe);
-                    let dn = s.probe.state_dot;
-                    s.controls.elevator_rad[k] = x0;
-                    let du = (up[0] - dn[0]) / (2.0 * h);
-                    let dw = (up[1] - dn[1]) / (2.0 * h);
-                    let dq = (up[2] - dn[2]) / (2.0 * h);
-                    alloc.effect[nt + k] = [du * cth + dw * sth, du * sth - dw * cth, dq];
-                }
                 let mut lim = InputLimits {
                     base: ff.inputs,
                     lo: [0.0; MAX_INPUTS],
@@ -523,9 +500,6 @@ impl<'a> Sys<'a> {
                     out = law(gains, &alloc, &inp, Some(&lim));
                 }
                 thrust_limit = lim.hi;
-                if std::env::var("FLY_DBG").is_ok() && t > 17.55 {
-                    eprintln!("t {t:.9} V {:.4} eff {:?} delta {:?} fixed {:?} off {:.4} short {:.3} lim {:?}/{:?} own {own_qdot:.3}", d.airspeed_mps, &alloc.effect[..nt+ne], &out.delta[..nt+ne], &out.fixed[..nt+ne], out.pitch_offset_rad, out.shortfall, &lim.lo[..nt+ne], &lim.hi[..nt+ne]);
-                }
                 d.pitch_offset_rad = out.pitch_offset_rad;
                 d.pitch_offset_limited = out.pitch_offset_limited;
                 d.pitch_ref_rad = ff.pitch_rad + out.pitch_offset_rad;
@@ -913,7 +887,7 @@ pub fn run(
             10.0,
             (t1 - t0).min(0.25),
             0.0,
-            500_000,
+            MAX_STEPS_PER_PIECE,
             u32::MAX,
             OutputType::Continuous,
         );
@@ -921,11 +895,24 @@ pub fn run(
         let st = match res {
             Ok(st) => st,
             Err(e) => {
-                let time_s = stepper.x_out().last().copied().unwrap_or(t0);
-                return Err(FlightError::Integration {
-                    time_s,
-                    why: e.to_string(),
-                });
+                // Keep what was flown and say why it ends (inputs chattering between limits,
+                // a state the integrator cannot follow at the stated tolerance).
+                match stepper.x_out().last().copied() {
+                    Some(t_last) if t_last > t0 => {
+                        pieces.push((t0, t_last, model));
+                        reached = t_last;
+                    }
+                    _ if pieces.is_empty() => {
+                        return Err(FlightError::Integration {
+                            time_s: t0,
+                            why: e.to_string(),
+                        });
+                    }
+                    _ => {}
+                }
+                let why = format!("the integrator could not go on ({e}): the inputs likely chatter between limits");
+                *sys.stop.borrow_mut() = Some((reached, why));
+                break;
             }
         };
         stats.evaluations += st.num_eval as u64;

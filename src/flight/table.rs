@@ -2,7 +2,9 @@
 //! tilt) with the allocation of the feedback law at each, interpolated linearly in airspeed.
 //!
 //! Untrimmable points stay in the table (they mark where the vehicle leaves the corridor) but
-//! the interpolation skips them and bridges between the trimmed neighbours. With a tilt
+//! the interpolation skips them and bridges between the trimmed neighbours. An elevator whose
+//! pitch effectiveness at a point has the opposite sign to that at the wingborne end of the
+//! table (a stalled tail in trim) is given no authority at that point. With a tilt
 //! schedule the tilt command is the schedule itself at the measured airspeed.
 
 use nalgebra::Matrix4;
@@ -111,9 +113,29 @@ impl FeedforwardTable {
                 TablePoint { trim, allocation }
             })
             .collect();
+        let mut pts = pts;
         let trimmed: Vec<usize> = (0..pts.len()).filter(|&i| pts[i].trim.trimmed).collect();
         if trimmed.is_empty() {
             return Err(FlightError::NoTrimmedPoint);
+        }
+        // An elevator whose pitch effectiveness at a point is reversed against the wingborne
+        // (highest-speed) end of the table works through a stalled surface there: the frozen
+        // value would drive it the wrong way in flight, so it counts as having no authority.
+        let nt = v.rotors.len();
+        let top = trimmed[trimmed.len() - 1];
+        for k in 0..v.elevators.len() {
+            let j = nt + k;
+            let reference = pts[top].allocation.effect[j][2];
+            if reference == 0.0 {
+                continue;
+            }
+            for &i in &trimmed {
+                if pts[i].allocation.effect[j][2] * reference < 0.0 {
+                    pts[i].allocation.effect[j] = [0.0; 3];
+                    pts[i].allocation.weight[j] =
+                        pts[i].allocation.weight[j].min(super::law::WEIGHT_FLOOR);
+                }
+            }
         }
         Ok(FeedforwardTable {
             points: pts,

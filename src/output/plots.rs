@@ -607,10 +607,49 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
         }];
         panels.push(el);
     }
+    let (gm, pm) = (ctx.col(loop_gain_margin_db), ctx.col(loop_phase_margin_deg));
+    if gm.iter().chain(&pm).any(|v| v.is_finite()) {
+        let mut g = ctx.panel("loop gain margin (smallest over actuators)", "gain margin (dB)");
+        g.series = vec![Series {
+            label: "feedback law broken at each actuator".into(),
+            x: ctx.speeds.clone(),
+            y: gm,
+            style: data_style(0),
+        }];
+        g.hlines = vec![HLine {
+            y: th.gain_margin_db,
+            label: format!("threshold {:.1} dB", th.gain_margin_db),
+            style: THRESHOLD,
+        }];
+        panels.push(g);
+        let mut ph = ctx.panel("loop phase margin (smallest over actuators)", "phase margin (deg)");
+        ph.series = vec![Series {
+            label: "feedback law broken at each actuator".into(),
+            x: ctx.speeds.clone(),
+            y: pm,
+            style: data_style(0),
+        }];
+        ph.hlines = vec![HLine {
+            y: th.phase_margin_deg,
+            label: format!("threshold {:.0} deg", th.phase_margin_deg),
+            style: THRESHOLD,
+        }];
+        panels.push(ph);
+    }
     for p in &mut panels {
         p.shades = shades.clone();
     }
     panels
+}
+
+/// Smallest gain margin over the loops of a point (dB), if any loop has one.
+pub fn loop_gain_margin_db(p: &PointReport) -> Option<f64> {
+    p.loop_margins.iter().filter(|m| m.in_loop).filter_map(|m| m.gain_margin_db).reduce(f64::min)
+}
+
+/// Smallest phase margin over the loops of a point (deg), if any loop has one.
+pub fn loop_phase_margin_deg(p: &PointReport) -> Option<f64> {
+    p.loop_margins.iter().filter(|m| m.in_loop).filter_map(|m| m.phase_margin_deg).reduce(f64::min)
 }
 
 fn eigen_points(ctx: &Ctx, sc: &Scenario) -> (Vec<(f64, f64, f64)>, Overlay) {
@@ -690,6 +729,7 @@ mod tests {
             margins: None,
             state_names: Vec::new(),
             input_names: Vec::new(),
+            loop_margins: Vec::new(),
             a_matrix: None,
             b_matrix: None,
         };

@@ -59,6 +59,8 @@ pub fn trim_table(points: &[PointReport]) -> (Vec<String>, Vec<Vec<String>>) {
         "lift_share",
         "max_real_per_s",
         "time_to_double_s",
+        "loop_gain_margin_db",
+        "loop_phase_margin_deg",
         "residual_x_n",
         "residual_z_n",
         "residual_m_nm",
@@ -103,6 +105,8 @@ pub fn trim_table(points: &[PointReport]) -> (Vec<String>, Vec<Vec<String>>) {
             r.push(num(m.map(|m| m.lift_share)));
             r.push(num(m.map(|m| m.max_real_per_s)));
             r.push(num(m.and_then(|m| m.time_to_double_s)));
+            r.push(num(super::plots::loop_gain_margin_db(p)));
+            r.push(num(super::plots::loop_phase_margin_deg(p)));
             r.push(format!("{:.3e}", p.residual.x_n));
             r.push(format!("{:.3e}", p.residual.z_n));
             r.push(format!("{:.3e}", p.residual.m_nm));

@@ -26,13 +26,14 @@ fn main() {
         schedule: Schedule::Free,
         objective: Objective::Power,
         thresholds: Thresholds::default(),
+        gains: None,
     };
     let one = rayon::ThreadPoolBuilder::new()
         .num_threads(1)
         .build()
         .expect("pool");
     let all = rayon::ThreadPoolBuilder::new().build().expect("pool");
-    let mut report = |label: &str, pool: &rayon::ThreadPool| {
+    let report = |label: &str, pool: &rayon::ThreadPool| {
         let mut times = Vec::new();
         let mut trimmed = 0;
         for _ in 0..7 {

@@ -220,6 +220,7 @@ fn surveyor_table(
         schedule: sc.schedule.clone(),
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
+        gains: None,
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let settings = settings_with(f);
@@ -532,6 +533,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
         schedule: sc.schedule.clone(),
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
+        gains: None,
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let s = FlightSettings::from_scenario(&sc).unwrap();
@@ -606,4 +608,59 @@ fn flight_settings_out_of_range_are_errors() {
         assert!(FlightSettings::from_file(&f, &TransitionFile::default(), 0.0).is_err());
     }
     let _ = Path::new(".");
+}
+
+// ---------------------------------------------------------------------------------------------
+// Dispersions
+// ---------------------------------------------------------------------------------------------
+
+#[test]
+fn normal_deviates_have_the_truncated_normal_moments() {
+    // Source: Box and Muller, Ann. Math. Statist. 29 (1958) 610-611 (the transform gives
+    // standard normal deviates); a standard normal truncated at +-3 has mean 0 and variance
+    // 1 - 2 * 3 * phi(3) / (2 Phi(3) - 1) = 0.973344 (phi(3) = 0.00443185, Phi(3) = 0.99865010;
+    // derived). Tolerances five standard errors for n = 200000.
+    use hoverline::flight::dispersion::SplitMix64;
+    let n = 200_000;
+    let mut g = SplitMix64::new(7, 0);
+    let z: Vec<f64> = (0..n).map(|_| g.normal()).collect();
+    let mean = z.iter().sum::<f64>() / n as f64;
+    let var = z.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1) as f64;
+    assert!(mean.abs() < 5.0 * (1.0 / n as f64).sqrt(), "mean {mean}");
+    let phi3 = (-4.5f64).exp() / (2.0 * std::f64::consts::PI).sqrt();
+    let big_phi3 = 0.998_650_101_968_37;
+    let var_book = 1.0 - 6.0 * phi3 / (2.0 * big_phi3 - 1.0);
+    assert!(
+        (var - var_book).abs() < 5.0 * (2.0 / n as f64).sqrt() * var_book,
+        "variance {var} vs {var_book}"
+    );
+    assert!(z.iter().all(|x| x.abs() <= 3.0));
+}
+
+#[test]
+fn dispersions_without_uncertainty_fly_the_nominal_vehicle() {
+    // Common practice, no source: with every standard deviation zero, each dispersed flight is
+    // the nominal flight, to the last bit, on any number of threads.
+    use hoverline::flight::dispersion::run_dispersions;
+    use hoverline::scenario::DispersionFile;
+    let (v, atm, table, s) = surveyor_table(FlightFile::default());
+    let m = Manoeuvre::Hold {
+        speed_mps: 0.0,
+        duration_s: 5.0,
+        height_step_m: 0.5,
+        height_step_at_s: 1.0,
+    };
+    let nominal = fly_perturbed(&v, &atm, &table, &s, m, &State::default(), &|_| {}).unwrap();
+    let zero = DispersionFile {
+        mass_pct: 0.0,
+        cg_x_m: 0.0,
+        aero_pct: 0.0,
+        thrust_pct: 0.0,
+        seed: 3,
+    };
+    let d = run_dispersions(&v, &atm, &table, &s, m, &zero, 4, &|| {});
+    for f in &d.flights {
+        assert_eq!(f.height_gained_m, nominal.summary.height_gained_m);
+        assert_eq!(f.energy_j, nominal.summary.energy_j);
+    }
 }
