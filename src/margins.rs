@@ -82,7 +82,9 @@ pub fn part_counts_for_stall(
     freestream_q_pa: f64,
 ) -> bool {
     part_is_loaded(p, area_m2, weight_n)
-        && !(wake_dominated(p, freestream_q_pa) && p.alpha_rad.abs() > DOWNLOAD_ALPHA_RAD && p.alpha_rad.abs() < std::f64::consts::PI - DOWNLOAD_ALPHA_RAD)
+        && !(wake_dominated(p, freestream_q_pa)
+            && p.alpha_rad.abs() > DOWNLOAD_ALPHA_RAD
+            && p.alpha_rad.abs() < std::f64::consts::PI - DOWNLOAD_ALPHA_RAD)
 }
 
 /// Thrust and power margin of one rotor group.

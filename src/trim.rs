@@ -295,7 +295,9 @@ impl<'a> Problem<'a> {
         };
         let objective = match self.req.objective {
             Objective::Power => self.eval.power_w / self.power_scale,
-            Objective::StallMargin => -smallest_stall_margin_rad(self.v, self.atm.density_kg_m3, &self.eval),
+            Objective::StallMargin => {
+                -smallest_stall_margin_rad(self.v, self.atm.density_kg_m3, &self.eval)
+            }
         };
         Point3 {
             r,
@@ -885,7 +887,9 @@ pub fn trim(
         path_accel_mps2: path_accel,
         objective_value: match req.objective {
             Objective::Power => p.eval.power_w,
-            Objective::StallMargin => smallest_stall_margin_rad(v, atm.density_kg_m3, &p.eval).to_degrees(),
+            Objective::StallMargin => {
+                smallest_stall_margin_rad(v, atm.density_kg_m3, &p.eval).to_degrees()
+            }
         },
         iterations,
         evaluations: p.evals,

@@ -144,7 +144,9 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         schedule: sc.schedule.clone(),
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
-        gains: Some(hoverline::flight::law::FeedbackGains::from_file(&sc.file.flight)),
+        gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+            &sc.file.flight,
+        )),
     };
     let b = bar(settings.speeds_mps.len() as u64, "1/4 sweep", "speeds");
     let sweep = run_sweep(&sc.vehicle, &atm, &settings, &|| b.inc(1));

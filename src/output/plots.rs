@@ -609,7 +609,10 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
     }
     let (gm, pm) = (ctx.col(loop_gain_margin_db), ctx.col(loop_phase_margin_deg));
     if gm.iter().chain(&pm).any(|v| v.is_finite()) {
-        let mut g = ctx.panel("loop gain margin (smallest over actuators)", "gain margin (dB)");
+        let mut g = ctx.panel(
+            "loop gain margin (smallest over actuators)",
+            "gain margin (dB)",
+        );
         g.series = vec![Series {
             label: "feedback law broken at each actuator".into(),
             x: ctx.speeds.clone(),
@@ -622,7 +625,10 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
             style: THRESHOLD,
         }];
         panels.push(g);
-        let mut ph = ctx.panel("loop phase margin (smallest over actuators)", "phase margin (deg)");
+        let mut ph = ctx.panel(
+            "loop phase margin (smallest over actuators)",
+            "phase margin (deg)",
+        );
         ph.series = vec![Series {
             label: "feedback law broken at each actuator".into(),
             x: ctx.speeds.clone(),
@@ -644,12 +650,20 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
 
 /// Smallest gain margin over the loops of a point (dB), if any loop has one.
 pub fn loop_gain_margin_db(p: &PointReport) -> Option<f64> {
-    p.loop_margins.iter().filter(|m| m.in_loop).filter_map(|m| m.gain_margin_db).reduce(f64::min)
+    p.loop_margins
+        .iter()
+        .filter(|m| m.in_loop)
+        .filter_map(|m| m.gain_margin_db)
+        .reduce(f64::min)
 }
 
 /// Smallest phase margin over the loops of a point (deg), if any loop has one.
 pub fn loop_phase_margin_deg(p: &PointReport) -> Option<f64> {
-    p.loop_margins.iter().filter(|m| m.in_loop).filter_map(|m| m.phase_margin_deg).reduce(f64::min)
+    p.loop_margins
+        .iter()
+        .filter(|m| m.in_loop)
+        .filter_map(|m| m.phase_margin_deg)
+        .reduce(f64::min)
 }
 
 fn eigen_points(ctx: &Ctx, sc: &Scenario) -> (Vec<(f64, f64, f64)>, Overlay) {
