@@ -285,7 +285,8 @@ pub fn closed_loop(
 ) -> ClosedLoop {
     let nt = v.rotors.len();
     let ne = v.elevators.len();
-    let m = feedback_inputs(v);
+    // The law handles at most MAX_INPUTS inputs; further ones are left out of the analysis.
+    let m = feedback_inputs(v).min(crate::flight::law::MAX_INPUTS);
     let n = 7 + nt;
     let (st, ct) = state.theta_rad.sin_cos();
     let (u0, w0) = (state.u_mps, state.w_mps);

@@ -243,6 +243,7 @@ fn figures(v: &Vehicle, draw: Draw, f: Result<Flight, FlightError>) -> Dispersed
 }
 
 /// Fly `n` dispersed vehicles in parallel (rayon); `progress` is called once per flight.
+#[allow(clippy::too_many_arguments)]
 pub fn run_dispersions(
     v: &Vehicle,
     atm: &Atmosphere,

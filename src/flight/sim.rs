@@ -843,6 +843,13 @@ pub fn run(
     end_s: f64,
     progress: &dyn Fn(f64),
 ) -> Result<Run, FlightError> {
+    let inputs = v.rotors.len() + v.elevators.len();
+    if inputs > MAX_INPUTS || v.actuators.len() > MAX_INPUTS {
+        return Err(FlightError::TooManyInputs {
+            inputs: inputs.max(v.actuators.len()),
+            max: MAX_INPUTS,
+        });
+    }
     let sys = Sys::new(v, atm, settings, mode, wind, end_s, progress);
     let l = sys.layout();
     let y0 = initial_vector(&sys, initial, start_controls);

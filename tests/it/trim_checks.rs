@@ -371,7 +371,11 @@ fn every_demo_sweep_trims_to_a_tiny_residual_or_says_why_not() {
     use hoverline::sweep::{run_sweep, SweepSettings};
     let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("scenarios");
     for e in std::fs::read_dir(dir).unwrap() {
-        let sc = load_scenario(&e.unwrap().path()).unwrap();
+        let path = e.unwrap().path();
+        if path.extension().is_none_or(|x| x != "toml") {
+            continue;
+        }
+        let sc = load_scenario(&path).unwrap();
         let a = &sc.file.atmosphere;
         let atm = isa(a.altitude_m, a.temperature_offset_k).unwrap();
         let settings = SweepSettings {
