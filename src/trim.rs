@@ -726,8 +726,11 @@ pub fn cold_guesses(v: &Vehicle, req: &TrimRequest) -> Vec<TrimGuess> {
             thetas.push(deg.to_radians());
         }
     } else {
-        thetas.push(0.0);
-        thetas.push(0.15);
+        // Nose-up attitudes matter where the wing stalls or the elevator runs out (a tilt
+        // vehicle between hover and wingborne flight), nose-down ones where rotors push.
+        for t in [0.0, 0.15, 0.35, -0.2, 0.55] {
+            thetas.push(t);
+        }
     }
     thetas
         .into_iter()
