@@ -90,30 +90,8 @@ pub struct RotorValue {
     pub induced_velocity_mps: f64,
 }
 
-/// A surface at a point.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct SurfaceValue {
-    /// Name.
-    pub name: String,
-    /// Angle of attack of the clean part (deg).
-    pub alpha_deg: f64,
-    /// Angle of attack of the most critical part (deg).
-    pub critical_alpha_deg: f64,
-    /// Which part is critical.
-    pub critical_part: String,
-    /// Smallest stall margin (deg).
-    pub stall_margin_deg: f64,
-    /// Stall angles (deg).
-    pub stall_pos_deg: f64,
-    /// Negative stall angle (deg).
-    pub stall_neg_deg: f64,
-    /// Lift (N).
-    pub lift_n: f64,
-    /// Drag (N).
-    pub drag_n: f64,
-    /// Whether the surface carries load (its stall counts).
-    pub loaded: bool,
-}
+/// A surface at a point (the margins module's record, serialised as is).
+pub use crate::margins::SurfaceMargin as SurfaceValue;
 
 /// Headline margins of a point (JSON `margins`).
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -353,22 +331,7 @@ pub fn assess(
             induced_velocity_mps: r.induced_velocity_mps,
         })
         .collect();
-    report.surfaces = m
-        .surfaces
-        .iter()
-        .map(|s| SurfaceValue {
-            name: s.name.clone(),
-            alpha_deg: s.alpha_deg,
-            critical_alpha_deg: s.critical_alpha_deg,
-            critical_part: s.critical_part.clone(),
-            stall_margin_deg: s.stall_margin_deg,
-            stall_pos_deg: s.stall_pos_deg,
-            stall_neg_deg: s.stall_neg_deg,
-            lift_n: s.lift_n,
-            drag_n: s.drag_n,
-            loaded: s.loaded,
-        })
-        .collect();
+    report.surfaces = m.surfaces.clone();
     let (reasons, kinds) = unsafe_reasons(&m, th);
     report.reasons = reasons;
     report.reason_kinds = kinds;
