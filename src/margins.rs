@@ -117,9 +117,11 @@ pub struct RotorMargin {
 /// All margins of a trim point.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Margins {
-    /// Per surface.
+    /// Per surface (serialised by the point report as its `surfaces`).
+    #[serde(skip)]
     pub surfaces: Vec<SurfaceMargin>,
-    /// Per rotor group.
+    /// Per rotor group (serialised by the point report as its `rotors`).
+    #[serde(skip)]
     pub rotors: Vec<RotorMargin>,
     /// Smallest surface stall margin (deg).
     pub stall_deg: f64,

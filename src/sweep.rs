@@ -93,32 +93,9 @@ pub struct RotorValue {
 /// A surface at a point (the margins module's record, serialised as is).
 pub use crate::margins::SurfaceMargin as SurfaceValue;
 
-/// Headline margins of a point (JSON `margins`).
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct MarginValues {
-    /// Smallest stall margin (deg).
-    pub stall_deg: f64,
-    /// Surface it belongs to.
-    pub stall_surface: String,
-    /// Smallest thrust margin (-).
-    pub thrust: f64,
-    /// Smallest power margin (-).
-    pub power: f64,
-    /// Nose-up pitch acceleration available (rad/s^2).
-    pub pitch_accel_up_rad_s2: f64,
-    /// Nose-down pitch acceleration available (rad/s^2).
-    pub pitch_accel_down_rad_s2: f64,
-    /// Elevator travel left (deg).
-    pub elevator_deg: Option<f64>,
-    /// Static margin (% chord) where wingborne.
-    pub static_margin_pct: Option<f64>,
-    /// Share of weight on aerodynamic lift (-).
-    pub lift_share: f64,
-    /// Largest eigenvalue real part (1/s).
-    pub max_real_per_s: f64,
-    /// Time to double of the fastest unstable mode (s).
-    pub time_to_double_s: Option<f64>,
-}
+/// Headline margins of a point (JSON `margins`; the per-surface and per-rotor records are
+/// reported beside them as `surfaces` and `rotors`).
+pub use crate::margins::Margins as MarginValues;
 
 /// One point of a sweep, in the JSON layout other programs rely on.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -335,19 +312,7 @@ pub fn assess(
     let (reasons, kinds) = unsafe_reasons(&m, th);
     report.reasons = reasons;
     report.reason_kinds = kinds;
-    report.margins = Some(MarginValues {
-        stall_deg: m.stall_deg,
-        stall_surface: m.stall_surface.clone(),
-        thrust: m.thrust,
-        power: m.power,
-        pitch_accel_up_rad_s2: m.pitch_accel_up_rad_s2,
-        pitch_accel_down_rad_s2: m.pitch_accel_down_rad_s2,
-        elevator_deg: m.elevator_deg,
-        static_margin_pct: m.static_margin_pct,
-        lift_share: m.lift_share,
-        max_real_per_s: m.max_real_per_s,
-        time_to_double_s: m.time_to_double_s,
-    });
+    report.margins = Some(m);
     report.modes = ms;
     report.a_matrix = Some(lin.a_rows());
     report.b_matrix = Some(lin.b_rows());

@@ -803,6 +803,8 @@ mod tests {
             level_8785c: None,
         }];
         p.margins = Some(MarginValues {
+            surfaces: Vec::new(),
+            rotors: Vec::new(),
             stall_deg: speed - 8.0,
             stall_surface: "wing".into(),
             thrust: 0.3,
