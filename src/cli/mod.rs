@@ -20,6 +20,10 @@ CAUTION: a preliminary design aid built on quasi-steady, simplified models. It i
 clearance. Defer to the applicable airworthiness authority, local aviation rules and licensed \
 flight-test practice.";
 
+/// The caution shown under every command's help.
+const CAUTION_HELP: &str = "CAUTION: preliminary design aid, not a flight clearance. Defer to the applicable \
+airworthiness authority, local aviation rules and licensed flight-test practice.";
+
 /// hoverline command line.
 #[derive(Debug, Parser)]
 #[command(name = "hoverline", version, about = ABOUT, long_about = ABOUT)]
@@ -31,18 +35,25 @@ pub struct Args {
 #[derive(Debug, Subcommand)]
 enum Command {
     /// First look at a vehicle: weights, loadings, hover power, surfaces, stall speed, static margin, warnings
+    #[command(after_help = CAUTION_HELP)]
     Check(check::CheckArgs),
     /// Trim one point in full detail: attitude, controls, margins, modes
+    #[command(after_help = CAUTION_HELP)]
     Trim(trim::TrimArgs),
     /// Trim a scenario's whole speed sweep; write trim.csv, sweep.json and plots
+    #[command(after_help = CAUTION_HELP)]
     Sweep(sweep::SweepArgs),
     /// Map the trimmable region over airspeed and tilt (or pitch); write corridor.csv, corridor.json and a plot
+    #[command(after_help = CAUTION_HELP)]
     Corridor(corridor::CorridorArgs),
     /// Build the transition schedule with the largest smallest margin through the corridor
+    #[command(after_help = CAUTION_HELP)]
     Schedule(schedule::ScheduleArgs),
     /// Fly the transition in time (hover to cruise, or back); write flight.csv, flight.json and plots
+    #[command(after_help = CAUTION_HELP)]
     Fly(fly::FlyArgs),
     /// Run sweep, corridor, schedule and flight; write one self-contained report.html with the data files
+    #[command(after_help = CAUTION_HELP)]
     Report(report::ReportArgs),
 }
 
