@@ -21,7 +21,8 @@ clearance. Defer to the applicable airworthiness authority, local aviation rules
 flight-test practice.";
 
 /// The caution shown under every command's help.
-const CAUTION_HELP: &str = "CAUTION: preliminary design aid, not a flight clearance. Defer to the applicable \
+const CAUTION_HELP: &str =
+    "CAUTION: preliminary design aid, not a flight clearance. Defer to the applicable \
 airworthiness authority, local aviation rules and licensed flight-test practice.";
 
 /// hoverline command line.
