@@ -441,11 +441,19 @@ fn restore(p: &mut Problem, z: &mut [f64], max_iter: usize) -> (bool, usize, Poi
     let all = [true; MAX_UNKNOWNS];
     let mut lambda = 1e-12;
     let mut it = 0;
+    // Residual a few iterations back: a start that does not halve it in that many steps is
+    // stuck in a local minimum of the residual and is abandoned (the caller tries others).
+    const STALL_WINDOW: usize = 6;
+    let mut history = [f64::INFINITY; STALL_WINDOW];
     while it < max_iter {
         let res = norm_inf(&f.r, m);
         if res < RESIDUAL_TOL {
             return (true, it, f);
         }
+        if it >= STALL_WINDOW && res > 0.5 * history[it % STALL_WINDOW] {
+            break;
+        }
+        history[it % STALL_WINDOW] = res;
         it += 1;
         jacobian(p, z, &f, &all[..n], &mut jac, &mut grad);
         let mut dz = [0.0; MAX_UNKNOWNS];
