@@ -18,7 +18,17 @@ pub struct CorridorArgs {
     /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
-    /// Airspeed step of the grid (m/s; default half the scenario's sweep step)
+    #[command(flatten)]
+    grid: GridArgs,
+    /// Print the corridor as JSON on stdout instead of the summary
+    #[arg(long)]
+    json: bool,
+}
+
+/// Corridor-grid flags shared by `corridor` and `schedule`.
+#[derive(Debug, Args)]
+pub struct GridArgs {
+    /// Airspeed step of the corridor grid (m/s; default half the scenario's sweep step)
     #[arg(long, value_name = "MPS")]
     speed_step: Option<f64>,
     /// Step of the transition variable (deg; default 1)
@@ -30,20 +40,12 @@ pub struct CorridorArgs {
     /// Highest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
     pitch_max: Option<f64>,
-    /// Print the corridor as JSON on stdout as well
-    #[arg(long)]
-    json: bool,
 }
 
-/// Grid settings shared by `corridor` and `schedule`.
-pub(super) fn settings(
-    sc: &Scenario,
-    speed_step: Option<f64>,
-    value_step: Option<f64>,
-    pitch_min: Option<f64>,
-    pitch_max: Option<f64>,
-) -> Result<CorridorSettings, CliError> {
-    let mut s = CorridorSettings::for_scenario(sc, speed_step, value_step)
+/// Grid settings from the scenario and the grid flags.
+pub(super) fn settings(sc: &Scenario, g: &GridArgs) -> Result<CorridorSettings, CliError> {
+    let (pitch_min, pitch_max) = (g.pitch_min, g.pitch_max);
+    let mut s = CorridorSettings::for_scenario(sc, g.speed_step, g.value_step)
         .map_err(|e| CliError::Usage(format!("--speed-step / --value-step: {e}")))?;
     if let Some((lo, hi)) = s.pitch_limits_rad.as_mut() {
         if let Some(m) = pitch_min {
@@ -173,17 +175,18 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
 /// Run `corridor`.
 pub fn run(a: CorridorArgs) -> Result<(), CliError> {
     let sc = load_scenario(&a.scenario)?;
-    let s = settings(&sc, a.speed_step, a.value_step, a.pitch_min, a.pitch_max)?;
+    let s = settings(&sc, &a.grid)?;
     let c = compute_with_bar(&sc, &s)?;
-    summary(&sc, &c);
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
     let files = write_corridor(&dir, &sc, &c)?;
+    if a.json {
+        // Nothing but data on stdout.
+        return super::print_json(&c);
+    }
+    summary(&sc, &c);
     for f in files {
         println!("wrote {}", f.display());
     }
     println!("{}", hoverline::output::CAUTION);
-    if a.json {
-        super::print_json(&c)?;
-    }
     Ok(())
 }

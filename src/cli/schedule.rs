@@ -20,25 +20,15 @@ pub struct ScheduleArgs {
     /// Output folder (default: the scenario's output_dir, else out/<scenario name>)
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
-    /// Airspeed step of the corridor grid (m/s; default half the scenario's sweep step)
-    #[arg(long, value_name = "MPS")]
-    speed_step: Option<f64>,
-    /// Step of the transition variable (deg; default 1)
-    #[arg(long, value_name = "DEG")]
-    value_step: Option<f64>,
-    /// Lowest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
-    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
-    pitch_min: Option<f64>,
-    /// Highest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
-    #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
-    pitch_max: Option<f64>,
+    #[command(flatten)]
+    grid: super::corridor::GridArgs,
     /// Speed spacing of the schedule's knots (m/s; default 1)
     #[arg(long, value_name = "MPS")]
     knot_spacing: Option<f64>,
     /// Skip the continuous refinement (grid optimum only)
     #[arg(long)]
     no_refine: bool,
-    /// Print the result as JSON on stdout as well
+    /// Print the result as JSON on stdout instead of the summary
     #[arg(long)]
     json: bool,
 }
@@ -46,7 +36,7 @@ pub struct ScheduleArgs {
 /// Run `schedule`.
 pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
     let sc = load_scenario(&a.scenario)?;
-    let s = settings(&sc, a.speed_step, a.value_step, a.pitch_min, a.pitch_max)?;
+    let s = settings(&sc, &a.grid)?;
     let mut ss = ScheduleSettings::for_scenario(&sc);
     if let Some(k) = a.knot_spacing {
         if !(k.is_finite() && k > 0.0) {
@@ -66,6 +56,22 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
     let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule)
         .map_err(|e| CliError::Analysis(e.to_string()))?;
 
+    let dir = a.out.unwrap_or_else(|| sc.output_dir());
+    let files = write_schedule(&dir, &sc, &c, &b)?;
+    if a.json {
+        // Nothing but data on stdout.
+        return super::print_json(&b);
+    }
+    print_text(&sc, &b);
+    for f in files {
+        println!("wrote {}", f.display());
+    }
+    println!("{}", hoverline::output::CAUTION);
+    Ok(())
+}
+
+/// Print the human summary of a built schedule.
+fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::BuiltSchedule) {
     let k = &b.constraints;
     println!(
         "schedule: {} ({}), {} against airspeed",
@@ -143,14 +149,4 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
         }
         None => println!("  the scenario has no schedule of this kind to compare with"),
     }
-    let dir = a.out.unwrap_or_else(|| sc.output_dir());
-    let files = write_schedule(&dir, &sc, &c, &b)?;
-    for f in files {
-        println!("wrote {}", f.display());
-    }
-    println!("{}", hoverline::output::CAUTION);
-    if a.json {
-        super::print_json(&b)?;
-    }
-    Ok(())
 }
