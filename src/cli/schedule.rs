@@ -140,7 +140,7 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
                     band.from_mps, band.to_mps
                 );
             }
-            if let Some((better, why)) = verdict(&b) {
+            if let Some((better, why)) = verdict(b) {
                 println!(
                     "  the built schedule is {}: {why}",
                     if better { "better" } else { "NOT better" }
