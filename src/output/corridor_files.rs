@@ -146,14 +146,9 @@ pub struct ReasonCount {
 /// `corridor.json`.
 #[derive(Debug, Serialize)]
 pub struct CorridorDocument<'a> {
-    /// Program and version.
-    pub tool: String,
-    /// The caution.
-    pub caution: &'static str,
-    /// Scenario name.
-    pub scenario: &'a str,
-    /// Vehicle name.
-    pub vehicle: &'a str,
+    /// Tool, caution, scenario and vehicle.
+    #[serde(flatten)]
+    pub header: super::Header<'a>,
     /// How the smallest margin is made.
     pub margin_definition: &'static str,
     /// Thresholds used.
@@ -251,10 +246,7 @@ pub fn write_corridor(dir: &Path, sc: &Scenario, c: &Corridor) -> Result<Vec<Pat
     out.push(p);
     let own = own_table(&sc.schedule, c.variable);
     let doc = CorridorDocument {
-        tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
-        caution: super::CAUTION,
-        scenario: &sc.file.name,
-        vehicle: &sc.vehicle.name,
+        header: super::Header::of(sc),
         margin_definition: MARGIN_DEFINITION,
         thresholds: &sc.file.thresholds,
         speed_bands_mps: c.speed_bands(),
@@ -339,14 +331,9 @@ pub fn describe(p: &CorridorPoint) -> String {
 /// `schedule.json`.
 #[derive(Debug, Serialize)]
 pub struct ScheduleJson<'a> {
-    /// Program and version.
-    pub tool: String,
-    /// The caution.
-    pub caution: &'static str,
-    /// Scenario name.
-    pub scenario: &'a str,
-    /// Vehicle name.
-    pub vehicle: &'a str,
+    /// Tool, caution, scenario and vehicle.
+    #[serde(flatten)]
+    pub header: super::Header<'a>,
     /// How the smallest margin is made.
     pub margin_definition: &'static str,
     /// The result.
@@ -399,10 +386,7 @@ pub fn write_schedule(
     out.push(p);
 
     let doc = ScheduleJson {
-        tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
-        caution: super::CAUTION,
-        scenario: &sc.file.name,
-        vehicle: &sc.vehicle.name,
+        header: super::Header::of(sc),
         margin_definition: MARGIN_DEFINITION,
         schedule: b,
     };

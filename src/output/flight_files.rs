@@ -263,14 +263,9 @@ pub fn stall_comparison(sweep: &SweepResult, s: &Summary) -> Vec<StallComparison
 /// The JSON document of a flight.
 #[derive(Debug, Serialize)]
 pub struct FlightDocument<'a> {
-    /// Program and version.
-    pub tool: String,
-    /// The caution.
-    pub caution: &'static str,
-    /// Scenario name.
-    pub scenario: &'a str,
-    /// Vehicle name.
-    pub vehicle: &'a str,
+    /// Tool, caution, scenario and vehicle.
+    #[serde(flatten)]
+    pub header: super::Header<'a>,
     /// The flight (manoeuvre, reference, wind, summary, events, integrator statistics).
     pub flight: &'a Flight,
     /// The scenario's `[flight]` table as flown (defaults filled in).
@@ -282,10 +277,7 @@ pub struct FlightDocument<'a> {
 /// Build the JSON document.
 pub fn document<'a>(sc: &'a Scenario, sweep: &SweepResult, f: &'a Flight) -> FlightDocument<'a> {
     FlightDocument {
-        tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
-        caution: super::CAUTION,
-        scenario: &sc.file.name,
-        vehicle: &sc.vehicle.name,
+        header: super::Header::of(sc),
         flight: f,
         settings: &sc.file.flight,
         stall_comparison: stall_comparison(sweep, &f.summary),
@@ -818,10 +810,8 @@ pub fn write_dispersions(
 ) -> Result<Vec<PathBuf>, WriteError> {
     #[derive(Serialize)]
     struct Doc<'a> {
-        tool: String,
-        caution: &'static str,
-        scenario: &'a str,
-        vehicle: &'a str,
+        #[serde(flatten)]
+        header: super::Header<'a>,
         dispersion: &'a Dispersion,
     }
     let (h, rows) = dispersion_table(&sc.vehicle, d);
@@ -831,10 +821,7 @@ pub fn write_dispersions(
     write_json(
         &json,
         &Doc {
-            tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
-            caution: super::CAUTION,
-            scenario: &sc.file.name,
-            vehicle: &sc.vehicle.name,
+            header: super::Header::of(sc),
             dispersion: d,
         },
     )?;

@@ -120,14 +120,9 @@ pub fn trim_table(points: &[PointReport]) -> (Vec<String>, Vec<Vec<String>>) {
 /// The JSON document of a sweep.
 #[derive(Debug, Serialize)]
 pub struct SweepDocument<'a> {
-    /// Program and version.
-    pub tool: String,
-    /// The caution.
-    pub caution: &'static str,
-    /// Scenario name.
-    pub scenario: &'a str,
-    /// Vehicle name.
-    pub vehicle: &'a str,
+    /// Tool, caution, scenario and vehicle.
+    #[serde(flatten)]
+    pub header: super::Header<'a>,
     /// Every point.
     pub points: &'a [PointReport],
     /// Unsafe bands.
@@ -144,10 +139,7 @@ pub fn write(dir: &Path, sc: &Scenario, r: &SweepResult) -> Result<Vec<PathBuf>,
     write_csv(&p, &h, &rows)?;
     out.push(p);
     let doc = SweepDocument {
-        tool: format!("hoverline {}", env!("CARGO_PKG_VERSION")),
-        caution: super::CAUTION,
-        scenario: &sc.file.name,
-        vehicle: &sc.vehicle.name,
+        header: super::Header::of(sc),
         points: &r.points,
         bands: &r.bands,
         stall_exposure: &r.stall_exposure,
