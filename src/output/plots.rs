@@ -252,41 +252,30 @@ impl<'a> Ctx<'a> {
 
     /// Names of actuators of `kind`, in order of first appearance.
     fn actuator_names(&self, kind: &str) -> Vec<String> {
-        let mut out: Vec<String> = Vec::new();
-        for p in self.points {
-            for a in p.actuators.iter().filter(|a| a.kind == kind) {
-                if !out.contains(&a.name) {
-                    out.push(a.name.clone());
-                }
-            }
-        }
-        out
+        first_seen(self.points.iter().flat_map(|p| {
+            p.actuators
+                .iter()
+                .filter(move |a| a.kind == kind)
+                .map(|a| a.name.as_str())
+        }))
     }
 
     /// Names of surfaces, in order of first appearance.
     fn surface_names(&self) -> Vec<String> {
-        let mut out: Vec<String> = Vec::new();
-        for p in self.points {
-            for s in &p.surfaces {
-                if !out.contains(&s.name) {
-                    out.push(s.name.clone());
-                }
-            }
-        }
-        out
+        first_seen(
+            self.points
+                .iter()
+                .flat_map(|p| p.surfaces.iter().map(|s| s.name.as_str())),
+        )
     }
 
     /// Names of rotor groups, in order of first appearance.
     fn rotor_names(&self) -> Vec<String> {
-        let mut out: Vec<String> = Vec::new();
-        for p in self.points {
-            for g in &p.rotors {
-                if !out.contains(&g.name) {
-                    out.push(g.name.clone());
-                }
-            }
-        }
-        out
+        first_seen(
+            self.points
+                .iter()
+                .flat_map(|p| p.rotors.iter().map(|g| g.name.as_str())),
+        )
     }
 
     /// A band of sweep points as shaded speed interval: half a step beyond each end point,
@@ -693,6 +682,17 @@ fn eigen_points(ctx: &Ctx, sc: &Scenario) -> (Vec<(f64, f64, f64)>, Overlay) {
         });
     }
     (pts, overlay)
+}
+
+/// Distinct names in order of first appearance.
+fn first_seen<'n>(names: impl Iterator<Item = &'n str>) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    for n in names {
+        if !out.iter().any(|o| o == n) {
+            out.push(n.to_string());
+        }
+    }
+    out
 }
 
 #[cfg(test)]
