@@ -41,6 +41,23 @@ impl LinearModel {
             .map(|i| self.b.iter().map(|c| c[i]).collect())
             .collect()
     }
+    /// The model back from [`LinearModel::a_rows`] and [`LinearModel::b_rows`]; None when
+    /// the shapes are not 4 x 4 and 4 x inputs.
+    pub fn from_rows(a: &[Vec<f64>], b: &[Vec<f64>]) -> Option<LinearModel> {
+        if a.len() != 4 || b.len() != 4 || a.iter().any(|r| r.len() != 4) {
+            return None;
+        }
+        let n = b[0].len();
+        if b.iter().any(|r| r.len() != n) {
+            return None;
+        }
+        Some(LinearModel {
+            a: Matrix4::from_fn(|i, j| a[i][j]),
+            b: (0..n)
+                .map(|k| [b[0][k], b[1][k], b[2][k], b[3][k]])
+                .collect(),
+        })
+    }
 }
 
 /// Relative step factors for [`linearise_with_steps`].

@@ -13,7 +13,7 @@ use serde::Serialize;
 
 use crate::atmosphere::Atmosphere;
 use crate::dynamics::STATE_NAMES;
-use crate::linear::{linearise, modes, Mode};
+use crate::linear::{linearise, modes, LinearModel, Mode};
 use crate::margins::{margins, Margins, WINGBORNE_LIFT_SHARE};
 use crate::scenario::{Schedule, Thresholds};
 use crate::trim::{trim, Condition, Objective, TiltSetting, TrimGuess, TrimRequest, TrimSolution};
@@ -223,10 +223,17 @@ pub fn add_loop_margins(
     gains: &crate::flight::law::FeedbackGains,
     report: &mut PointReport,
 ) {
-    if !sol.trimmed() {
+    // The point's own linear model (already in the report); re-linearise only if it is absent.
+    let lin = match (&report.a_matrix, &report.b_matrix) {
+        (Some(a), Some(b)) => LinearModel::from_rows(a, b),
+        _ => None,
+    };
+    let Some(lin) = lin.or_else(|| {
+        sol.trimmed()
+            .then(|| linearise(v, atm, &sol.state, &sol.controls))
+    }) else {
         return;
-    }
-    let lin = linearise(v, atm, &sol.state, &sol.controls);
+    };
     let m = crate::loops::loop_margins(v, &sol.state, &sol.controls, &lin, gains, req.climb_rad);
     let short = crate::loops::margin_shortfalls(&m, th.gain_margin_db, th.phase_margin_deg);
     if !short.is_empty() {
