@@ -310,7 +310,7 @@ impl Default for FlightFile {
             headwind_mps: 0.0,
             updraft_mps: 0.0,
             gust: None,
-            stall_load_fraction: 0.005,
+            stall_load_fraction: crate::margins::LOADED_PART_SHARE,
             tilt_lag_warning_deg: 5.0,
             plan_lead_mps: 2.0,
             alpha_protection: true,
