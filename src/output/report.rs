@@ -916,6 +916,7 @@ fn headline(out: &mut String, inp: &ReportInputs) {
     };
     let sw = &sc.file.sweep;
     let obj = match sw.objective {
+        crate::trim::Objective::Reserve => "least shaft power keeping control and stall reserves",
         crate::trim::Objective::Power => "least shaft power",
         crate::trim::Objective::StallMargin => "largest stall margin",
     };

@@ -198,7 +198,7 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
             tilt: TiltSetting::Fixed(cruise_tilt),
             pitch_rad: None,
             condition: Condition::Steady,
-            objective: Objective::Power,
+            objective: Objective::Reserve,
         };
         let sol = trim(v, atm, &req, None, true);
         if sol.trimmed() {
