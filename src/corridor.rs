@@ -652,7 +652,7 @@ fn untrimmable_limit(v: &Vehicle, atm: &Atmosphere, sol: &TrimSolution) -> (Limi
     {
         return (
             Limit::PitchAttitude,
-            "untrimmable: pitch attitude at its search bound".into(),
+            "untrimmable: pitch attitude at its limit".into(),
         );
     }
     (

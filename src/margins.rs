@@ -2,12 +2,10 @@
 //! margin of every rotor group, pitch authority nose-up and nose-down, elevator travel left,
 //! static margin where wingborne, and the fastest-growing mode.
 //!
-//! - Stall margin: degrees from the local angle of attack of each immersed or clean part to
-//!   its positive and negative stall angle; the smaller of the two; negative when stalled.
-//!   Only parts whose dynamic-pressure load q S_part reaches [`LOADED_PART_SHARE`] of the
-//!   weight count (in hover the clean part of a wing sees no flow at all), and a part in
-//!   download (wake-dominated, flow more than 45 deg off the chord) is not counted as stalled
-//!   ([`part_counts_for_stall`]).
+//! - Stall: the three-part rule of [`stall_assessment`] (one function for sweep, corridor,
+//!   trim objective and flight): degrees from the local angle of attack of each counted part
+//!   to its stall angle, the stalled load share, and the point's verdict (attached, advisory,
+//!   stalled). Download under a rotor wake never counts.
 //! - Thrust margin: (T_available - T) / T_available, with T_available limited by the thrust
 //!   cap and by the power available at the current inflow (momentum theory, Glauert).
 //! - Power margin: (P_available - P) / P_available.
@@ -15,8 +13,9 @@
 //!   elevator is moved to the limit that pitches the nose up (or down), each in the direction
 //!   its own B-matrix column says; tilt actuators are left alone (they are slow).
 //! - Static margin: K_n = -Cm_alpha / CL_alpha = (dM/dw) / (dZ/dw) / c_ref with quasi-static
-//!   loads (alpha-dot terms off), thrust held, at the trim speed; reported where aerodynamic
-//!   lift carries at least half of the weight ("wingborne").
+//!   loads (alpha-dot terms off), thrust held, at the trim speed; reported only where the
+//!   point is wingborne ([`wingborne`]: the wings carry at least 80 % of the weight, at or
+//!   above the clean stall speed), null elsewhere. The lift share is reported beside it.
 
 use crate::atmosphere::Atmosphere;
 use crate::dynamics::{evaluate, evaluate_quasi_static, Controls, Evaluation, State, Wind};
@@ -316,8 +315,33 @@ pub struct Margins {
     pub time_to_double_s: Option<f64>,
 }
 
-/// Lift share above which a point counts as wingborne.
-pub const WINGBORNE_LIFT_SHARE: f64 = 0.5;
+/// Lift share above which a point counts as wingborne (common practice, no source: the
+/// wings carry most of the weight).
+pub const WINGBORNE_LIFT_SHARE: f64 = 0.8;
+
+/// Clean stall speed (m/s): the speed at which the wings at their largest lift coefficient
+/// carry the weight in the free stream alone, V_s = sqrt(2 W / (rho sum(S CL_max))); None
+/// without a wing.
+pub fn clean_stall_speed_mps(v: &Vehicle, density_kg_m3: f64) -> Option<f64> {
+    let lift: f64 = v
+        .surfaces
+        .iter()
+        .filter(|s| s.role == crate::vehicle::SurfaceRole::Wing)
+        .map(|s| s.area_m2 * s.polar.cl_max())
+        .sum::<f64>()
+        + v.derivatives.as_ref().map_or(0.0, |d| {
+            d.area_m2 * (d.cl0 + d.cl_alpha * d.alpha_stall_pos_rad)
+        });
+    (lift > 0.0).then(|| (2.0 * v.weight_n() / (density_kg_m3 * lift)).sqrt())
+}
+
+/// Whether a point is wingborne: the wings carry at least [`WINGBORNE_LIFT_SHARE`] of the
+/// weight and the airspeed is at least the clean stall speed, so the lift does not depend on
+/// rotor wakes (powered lift below that speed is not wingborne flight).
+pub fn wingborne(v: &Vehicle, density_kg_m3: f64, speed_mps: f64, share: f64) -> bool {
+    share >= WINGBORNE_LIFT_SHARE
+        && clean_stall_speed_mps(v, density_kg_m3).is_some_and(|vs| speed_mps >= vs)
+}
 
 /// Share of the weight carried by aerodynamic forces (surfaces and derivative model).
 pub fn lift_share(v: &Vehicle, state: &State, e: &Evaluation) -> f64 {
@@ -526,7 +550,7 @@ pub fn margins(
     }
 
     let share = lift_share(v, state, e);
-    let static_margin_pct = (share >= WINGBORNE_LIFT_SHARE)
+    let static_margin_pct = wingborne(v, atm.density_kg_m3, e.airspeed_mps, share)
         .then(|| static_margin(v, atm, state, controls))
         .flatten()
         .map(|k| 100.0 * k);

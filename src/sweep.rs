@@ -14,7 +14,7 @@ use serde::Serialize;
 use crate::atmosphere::Atmosphere;
 use crate::dynamics::STATE_NAMES;
 use crate::linear::{linearise, modes, LinearModel, Mode};
-use crate::margins::{margins, Margins, WINGBORNE_LIFT_SHARE};
+use crate::margins::{margins, Margins};
 use crate::scenario::{Schedule, Thresholds};
 use crate::trim::{trim, Condition, Objective, TiltSetting, TrimGuess, TrimRequest, TrimSolution};
 use crate::vehicle::Vehicle;
@@ -296,7 +296,11 @@ pub fn assess(
     let lin = linearise(v, atm, &sol.state, &sol.controls);
     let e = &sol.evaluation;
     let share = crate::margins::lift_share(v, &sol.state, e);
-    let ms = modes(&lin.a, req.speed_mps, share >= WINGBORNE_LIFT_SHARE);
+    let ms = modes(
+        &lin.a,
+        req.speed_mps,
+        crate::margins::wingborne(v, atm.density_kg_m3, req.speed_mps, share),
+    );
     let m = margins(
         v,
         atm,
