@@ -10,3 +10,4 @@ mod report_checks;
 mod rotor_checks;
 mod trim_checks;
 mod vehicle_checks;
+mod verdict_checks;
