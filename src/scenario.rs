@@ -494,6 +494,16 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
             "use mode = \"pitch\" for a tail-sitter, or \"free\"",
         ));
     }
+    if s.mode == ScheduleMode::Pitch && v.has_tilt() {
+        return Err(Invalid::new(
+            p.key("mode"),
+            format!(
+                "vehicle '{}' has tilt actuators, so its transition variable is tilt, not pitch",
+                v.name
+            ),
+            "use mode = \"tilt\" with a tilt table, or \"free\" to let the trim choose the tilt",
+        ));
+    }
     if s.speed_mps.len() < 2 || s.speed_mps.len() != s.value_deg.len() {
         return Err(Invalid::new(
             p.key("speed_mps"),

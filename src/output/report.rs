@@ -1278,7 +1278,7 @@ fn mode_cells(at: &str, m: &Mode) -> Vec<String> {
         fo(m.period_s, 2),
         t,
         m.level_8785c
-            .map_or("\u{2013}".into(), |l| format!("level {l}")),
+            .map_or("\u{2013}".into(), |l| crate::linear::level_label(l).into()),
     ]
 }
 

@@ -230,7 +230,12 @@ pub fn point(p: &PointReport) -> String {
             opt(m.time_to_half_s, 2),
             opt(m.time_to_double_s, 2),
             m.level_8785c
-                .map(|l| format!("  (MIL-F-8785C level {l}, indication only)"))
+                .map(|l| {
+                    format!(
+                        "  (MIL-F-8785C {}, indication only)",
+                        crate::linear::level_label(l)
+                    )
+                })
                 .unwrap_or_default()
         );
     }
