@@ -468,6 +468,50 @@ fn finite(path: KeyPath, v: f64) -> Result<f64, Invalid> {
     }
 }
 
+/// Refuse a `[flight]` sample step that would record more than
+/// [`crate::limits::MAX_FLIGHT_SAMPLES`] samples over the longest flight the sweep range allows.
+fn flight_sample_count(file: &ScenarioFile, from: f64, to: f64) -> Result<(), Invalid> {
+    let f = &file.flight;
+    let tr = &file.transition;
+    // The simulation leaves room for three times the planned ramp (flight::Reference).
+    let ramp = (to - from) / tr.acceleration_mps2.min(tr.deceleration_mps2);
+    let duration =
+        (f.hold_before_s + 3.0 * ramp + f.hold_after_s).min(crate::flight::MAX_DURATION_S);
+    let count = duration / f.sample_step_s + 2.0;
+    let max = crate::limits::MAX_FLIGHT_SAMPLES;
+    if count > max as f64 {
+        return Err(Invalid::new(
+            KeyPath::root().key("flight").key("sample_step_s"),
+            format!(
+                "a flight of up to {duration:.0} s would record {count:.3e} samples (at most {max})"
+            ),
+            format!(
+                "give a sample step of at least {:.2e} s; 0.02 s is the default",
+                duration / (max as f64 - 2.0)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Refuse an airspeed outside [`crate::limits::SPEED_MPS`].
+fn speed_in_bound(path: KeyPath, v: f64) -> Result<f64, Invalid> {
+    let b = crate::limits::SPEED_MPS;
+    if b.contains(v) {
+        Ok(v)
+    } else {
+        Err(Invalid::new(
+            path,
+            format!(
+                "airspeed {} m/s is outside {}",
+                crate::limits::show(v),
+                b.text()
+            ),
+            format!("give an airspeed within {} (our sanity bound)", b.text()),
+        ))
+    }
+}
+
 /// Validate a schedule table for a vehicle.
 pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Schedule, Invalid> {
     if s.mode == ScheduleMode::Free {
@@ -516,6 +560,7 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
             "start at 0 m/s or above",
         ));
     }
+    speed_in_bound(p.key("speed_mps"), s.speed_mps[s.speed_mps.len() - 1])?;
     let (lo, hi) = match s.mode {
         ScheduleMode::Tilt => v
             .actuators
@@ -606,14 +651,21 @@ fn build(
             "give a step such as 1.0 m/s",
         ));
     }
-    let n = ((to - from) / step + 1e-9).floor() as usize + 1;
-    if n > 100_000 {
+    speed_in_bound(sp.key("from_mps"), from)?;
+    speed_in_bound(sp.key("to_mps"), to)?;
+    // The count in floating point first: a tiny step must not wrap the cast.
+    let count = crate::limits::point_count(from, to, step);
+    if count > crate::limits::MAX_SWEEP_POINTS as f64 {
         return Err(Invalid::new(
             sp.key("step_mps"),
-            format!("the sweep would have {n} points"),
-            "use a larger step (at most 100000 points)",
+            format!("the sweep would have {count:.3e} points"),
+            format!(
+                "use a larger step (at most {} points)",
+                crate::limits::MAX_SWEEP_POINTS
+            ),
         ));
     }
+    let n = ((to - from) / step + 1e-9).floor() as usize + 1;
     let mut speeds: Vec<f64> = (0..n).map(|i| from + i as f64 * step).collect();
     if (to - speeds[n - 1]).abs() > 1e-9 * to.abs().max(1.0) {
         speeds.push(to);
@@ -658,7 +710,18 @@ fn build(
                 "give a positive value",
             ));
         }
+        let b = crate::limits::ACCELERATION_MPS2;
+        if k != "smoothness_deg_per_mps2" && !b.contains(v) {
+            return Err(Invalid::new(
+                trp.key(k),
+                format!("{} m/s^2 is outside {}", crate::limits::show(v), b.text()),
+                format!("give a value within {} (our sanity bound)", b.text()),
+            ));
+        }
     }
+    // One validation of [flight], whichever command reads it.
+    crate::flight::FlightSettings::from_file(&file.flight, tr, climb.to_radians())?;
+    flight_sample_count(&file, from, to)?;
     Ok(Scenario {
         file,
         path: path.to_path_buf(),

@@ -53,8 +53,11 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
         sc.file.atmosphere.temperature_offset_k,
     )
     .map_err(|e| CliError::Analysis(e.to_string()))?;
-    let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule)
-        .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule).map_err(|e| match e {
+        // Settings come from the flags and the scenario: bad input.
+        hoverline::schedule::ScheduleError::Settings(_) => CliError::Usage(e.to_string()),
+        _ => CliError::Analysis(e.to_string()),
+    })?;
 
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
     let files = write_schedule(&dir, &sc, &c, &b)?;
