@@ -30,6 +30,13 @@ impl Bound {
     /// The bound as text for a hint, e.g. `0.01..100000 kg`.
     pub fn text(&self) -> String {
         format!("{}..{} {}", self.min, self.max, self.unit)
+            .trim_end()
+            .to_string()
+    }
+
+    /// A value in this bound's unit for a message, e.g. `1e200 m`.
+    pub fn value(&self, v: f64) -> String {
+        format!("{} {}", show(v), self.unit).trim_end().to_string()
     }
 }
 
@@ -111,6 +118,14 @@ pub const TEMPERATURE_OFFSET_K: Bound = Bound {
     unit: "K",
 };
 
+/// A coefficient of the `[derivatives]` model (per rad, or plain): measured values stay
+/// within a few tens.
+pub const DERIVATIVE_PER_RAD: Bound = Bound {
+    min: -1e3,
+    max: 1e3,
+    unit: "",
+};
+
 /// Magnitude of a tabulated polar coefficient (cl, cd, cm); measured values stay below 3.
 pub const POLAR_COEFFICIENT: f64 = 10.0;
 
@@ -149,6 +164,32 @@ pub fn point_count(lo: f64, hi: f64, step: f64) -> f64 {
     ((hi - lo) / step).floor() + 2.0
 }
 
+/// What is wrong with a name (vehicle, component, scenario), if anything: longer than
+/// [`MAX_NAME_CHARS`], a control character, or a first character that a spreadsheet reads as
+/// a formula (`=`, `+`, `-`, `@`, the OWASP guidance on CSV injection).
+pub fn name_problem(name: &str) -> Option<String> {
+    let n = name.chars().count();
+    if n > MAX_NAME_CHARS {
+        return Some(format!(
+            "name has {n} characters (at most {MAX_NAME_CHARS})"
+        ));
+    }
+    if name.chars().any(char::is_control) {
+        return Some("name holds a control character (tab, newline, ...)".into());
+    }
+    if name.starts_with(['=', '+', '-', '@']) {
+        return Some(format!(
+            "name starts with '{}', which a spreadsheet reads as a formula",
+            &name[..1]
+        ));
+    }
+    None
+}
+
+/// The hint for a [`name_problem`].
+pub const NAME_HINT: &str =
+    "give a short name of letters, digits, spaces and - _ . ( ), starting with a letter or digit";
+
 /// A number for a message: plain when it reads well, in exponent form when it is huge or
 /// tiny (1e308 prints as `1e308`, not as 309 digits).
 pub fn show(v: f64) -> String {
@@ -182,5 +223,8 @@ mod tests {
         assert_eq!(MASS_KG.text(), "0.01..100000 kg");
         assert_eq!(show(1e308), "1e308");
         assert_eq!(show(25.5), "25.5");
+        assert!(name_problem("=HYPERLINK(\"x\")").is_some());
+        assert!(name_problem(&"a".repeat(201)).is_some());
+        assert!(name_problem("wing-props").is_none());
     }
 }

@@ -38,15 +38,62 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         .file_name()
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_default();
-    let tmp = dir.join(format!(".{name}.tmp{}", std::process::id()));
-    let mut f = std::fs::File::create(&tmp).map_err(err)?;
-    f.write_all(bytes).map_err(err)?;
-    f.sync_all().map_err(err)?;
+    let (tmp, mut f) = create_temporary(dir, &name, "tmp").map_err(err)?;
+    let written = f.write_all(bytes).and_then(|_| f.sync_all());
     drop(f);
+    if let Err(e) = written {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(err(e));
+    }
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
         err(e)
     })
+}
+
+/// Create a new temporary file `.<name>.<random>.<suffix>` in `dir`, exclusively (create-new:
+/// an existing file or a planted symlink at that name is never opened) under an unpredictable
+/// name.
+pub fn create_temporary(
+    dir: &Path,
+    name: &str,
+    suffix: &str,
+) -> std::io::Result<(PathBuf, std::fs::File)> {
+    use std::hash::{BuildHasher, Hasher};
+    let mut last = None;
+    for attempt in 0u32..16 {
+        // RandomState is seeded from the operating system's random source.
+        let mut h = std::collections::hash_map::RandomState::new().build_hasher();
+        h.write_u32(std::process::id());
+        h.write_u32(attempt);
+        let nanos = std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.as_nanos());
+        h.write_u128(nanos);
+        let tmp = dir.join(format!(".{name}.{:016x}.{suffix}", h.finish()));
+        match std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&tmp)
+        {
+            Ok(f) => return Ok((tmp, f)),
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => last = Some(e),
+            Err(e) => return Err(e),
+        }
+    }
+    Err(last.unwrap_or_else(|| std::io::Error::other("no temporary name is free")))
+}
+
+/// A text cell that a spreadsheet would run as a formula (first character `=`, `+`, `-`,
+/// `@`, tab or carriage return) gets a leading `'`; numbers are left alone (OWASP guidance on
+/// CSV injection).
+pub fn neutralise_cell(cell: &str) -> std::borrow::Cow<'_, str> {
+    let risky = cell.starts_with(['=', '+', '-', '@', '\t', '\r']);
+    if risky && cell.trim().parse::<f64>().is_err() {
+        std::borrow::Cow::Owned(format!("'{cell}"))
+    } else {
+        std::borrow::Cow::Borrowed(cell)
+    }
 }
 
 /// Serialise `value` as pretty JSON and write it atomically.
@@ -67,7 +114,8 @@ pub fn write_csv(path: &Path, header: &[String], rows: &[Vec<String>]) -> Result
     };
     w.write_record(header).map_err(io)?;
     for r in rows {
-        w.write_record(r).map_err(io)?;
+        w.write_record(r.iter().map(|c| neutralise_cell(c).into_owned()))
+            .map_err(io)?;
     }
     let bytes = w.into_inner().map_err(|e| WriteError {
         path: path.to_path_buf(),
@@ -93,6 +141,33 @@ mod tests {
             .filter(|e| e.file_name().to_string_lossy().contains(".tmp"))
             .collect();
         assert!(leftovers.is_empty());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn formula_cells_are_neutralised_and_numbers_kept() {
+        // Source: OWASP, CSV Injection (cells starting with = + - @ tab CR).
+        assert_eq!(neutralise_cell("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(neutralise_cell("@sum"), "'@sum");
+        assert_eq!(neutralise_cell("-1.5e-3"), "-1.5e-3");
+        assert_eq!(neutralise_cell("wing"), "wing");
+    }
+
+    #[cfg(unix)]
+    #[test]
+    fn a_planted_symlink_is_not_followed() {
+        // Common practice, no source: temporaries are created exclusively.
+        let dir = std::env::temp_dir().join(format!("hoverline-link-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let victim = dir.join("victim.txt");
+        std::fs::write(&victim, b"keep").unwrap();
+        // The old predictable name and a few guesses of the new one all point at the victim.
+        let old = dir.join(format!(".out.txt.tmp{}", std::process::id()));
+        std::os::unix::fs::symlink(&victim, &old).unwrap();
+        write_atomic(&dir.join("out.txt"), b"new").unwrap();
+        assert_eq!(std::fs::read_to_string(&victim).unwrap(), "keep");
+        assert_eq!(std::fs::read_to_string(dir.join("out.txt")).unwrap(), "new");
         std::fs::remove_dir_all(&dir).unwrap();
     }
 }
