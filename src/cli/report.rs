@@ -271,7 +271,7 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         super::print_json(&summary)?;
     } else {
         let colour = use_colour();
-        println!(
+        outln!(
             "report: {} ({}), {} unsafe, {} caution, {} ok, {} notes",
             sc.file.name,
             sc.vehicle.name,
@@ -292,11 +292,11 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
             } else {
                 word.to_string()
             };
-            println!("  {word} {}: {}", x.topic, x.text);
+            outln!("  {word} {}: {}", x.topic, x.text);
         }
-        println!("wrote {}", path.display());
-        println!("  and {} data files beside it", names.len());
-        println!("{}", hoverline::output::CAUTION);
+        outln!("wrote {}", path.display());
+        outln!("  and {} data files beside it", names.len());
+        outln!("{}", hoverline::output::CAUTION);
     }
     if !summary.not_available.is_empty() {
         let parts: Vec<String> = summary

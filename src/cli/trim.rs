@@ -111,7 +111,7 @@ pub fn run(a: TrimArgs) -> Result<(), CliError> {
     if a.json {
         print_json(&report)?;
     } else {
-        print!("{}", text::point(&report));
+        out!("{}", text::point(&report));
     }
     Ok(())
 }

@@ -466,3 +466,41 @@ fn names_are_capped_and_cannot_inject_formulas_or_escape_the_output_folder() {
     assert_eq!(made.len(), 1);
     let _ = std::fs::remove_dir_all(&d);
 }
+
+#[test]
+fn a_closed_stdout_ends_printing_quietly_and_loses_no_file() {
+    let d = scratch("pipe");
+    let t = swap(
+        &demo_scenario("courier-heavy-hot.toml"),
+        "step_mps = 1.0",
+        "step_mps = 10.0",
+    );
+    let f = write(&d, "s.toml", &t);
+    let v = root().join("vehicles/tilt-wing-courier.toml");
+    let v = v.to_string_lossy();
+    // Common practice, no source: `cmd | head` closes the pipe early; the command exits 0
+    // (or dies of SIGPIPE, the convention), never panics, and still writes its files.
+    for args in [
+        vec!["sweep", &f, "--out", "o"],
+        vec!["check", &v],
+        vec!["trim", &v, "--speed", "12"],
+    ] {
+        let mut child = Command::new(env!("CARGO_BIN_EXE_hoverline"))
+            .args(&args)
+            .current_dir(&d)
+            .stdin(Stdio::null())
+            .stdout(Stdio::piped())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
+        drop(child.stdout.take());
+        let mut err = String::new();
+        std::io::Read::read_to_string(&mut child.stderr.take().unwrap(), &mut err).unwrap();
+        let status = child.wait().unwrap();
+        assert_eq!(status.code(), Some(0), "{args:?}: {err}");
+        assert!(!err.contains("panicked"), "{args:?}: {err}");
+    }
+    assert!(d.join("o/trim.csv").is_file());
+    assert!(d.join("o/sweep.json").is_file());
+    let _ = std::fs::remove_dir_all(&d);
+}
