@@ -145,6 +145,15 @@ fn atmosphere(
     altitude_m: f64,
     offset_k: f64,
 ) -> Result<hoverline::atmosphere::Atmosphere, CliError> {
+    let b = hoverline::limits::TEMPERATURE_OFFSET_K;
+    if !b.contains(offset_k) {
+        return Err(CliError::Usage(format!(
+            "--temperature-offset-k {} lies outside {}\n  hint: give an offset from ISA within {} (our sanity bound)",
+            hoverline::limits::show(offset_k),
+            b.text(),
+            b.text()
+        )));
+    }
     hoverline::atmosphere::isa(altitude_m, offset_k)
         .map_err(|e| CliError::Usage(format!("--altitude-m / --temperature-offset-k: {e}")))
 }
