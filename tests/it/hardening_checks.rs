@@ -504,3 +504,91 @@ fn a_closed_stdout_ends_printing_quietly_and_loses_no_file() {
     assert!(d.join("o/sweep.json").is_file());
     let _ = std::fs::remove_dir_all(&d);
 }
+
+/// The `"scenario"` named in a JSON file of a run folder.
+fn scenario_in(path: &Path) -> String {
+    let text = std::fs::read_to_string(path).unwrap();
+    let v: serde_json::Value = serde_json::from_str(&text).unwrap();
+    v["scenario"].as_str().unwrap_or_default().to_string()
+}
+
+/// A courier scenario named `name` with sweep step `step`.
+fn courier(d: &Path, name: &str, step: &str) -> String {
+    let t = swap(
+        &demo_scenario("courier-transition.toml"),
+        "name = \"courier-transition\"",
+        &format!("name = \"{name}\""),
+    );
+    let t = swap(&t, "step_mps = 1.0", &format!("step_mps = {step}"));
+    write(d, &format!("{name}.toml"), &t)
+}
+
+/// Every file of the set names the same scenario, and the page embeds that run's figure.
+fn one_complete_set(out: &Path) -> String {
+    let name = scenario_in(&out.join("report.json"));
+    for f in ["sweep.json", "corridor.json", "flight.json"] {
+        assert_eq!(scenario_in(&out.join(f)), name, "{f} is from another run");
+    }
+    let page = std::fs::read_to_string(out.join("report.html")).unwrap();
+    assert!(page.contains(&name), "report.html is from another run");
+    name
+}
+
+#[test]
+fn report_runs_are_written_as_a_set() {
+    let d = scratch("report-set");
+    let a = courier(&d, "run-a", "2.0");
+    let b = courier(&d, "run-b", "3.0");
+    // Common practice, no source: two runs into one folder at once never mix; the second is
+    // refused while the first holds the folder, or runs after it.
+    let (ra, rb) = std::thread::scope(|s| {
+        let ta = s.spawn(|| run_in(&d, &["report", &a, "--out", "o"]));
+        let tb = s.spawn(|| run_in(&d, &["report", &b, "--out", "o"]));
+        (ta.join().unwrap(), tb.join().unwrap())
+    });
+    for r in [&ra, &rb] {
+        let refused = r.code == Some(1) && r.stderr.contains("another hoverline run");
+        assert!(r.code == Some(0) || refused, "{:?}: {}", r.code, r.stderr);
+    }
+    assert!(ra.code == Some(0) || rb.code == Some(0));
+    one_complete_set(&d.join("o"));
+    assert!(!d.join("o").join(".hoverline-run.lock").exists());
+
+    // An interrupted run leaves the old complete set (or, had it finished, the new one).
+    let first = one_complete_set(&d.join("o"));
+    let slow = courier(&d, "run-slow", "0.25");
+    let child = Command::new(env!("CARGO_BIN_EXE_hoverline"))
+        .args(["report", &slow, "--out", "o"])
+        .current_dir(&d)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    let start = Instant::now();
+    let staging_seen = || {
+        std::fs::read_dir(d.join("o")).unwrap().flatten().any(|e| {
+            e.file_name()
+                .to_string_lossy()
+                .starts_with(".hoverline-staging-")
+        })
+    };
+    while !staging_seen() && start.elapsed() < SAFETY_TIMEOUT {
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    std::thread::sleep(Duration::from_millis(200));
+    let killed = Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(killed.success());
+    let mut child = child;
+    let _ = child.wait().unwrap();
+    let now = one_complete_set(&d.join("o"));
+    assert!(now == first || now == "run-slow", "{now}");
+    // The next run clears what the interrupted one left behind.
+    let r = run_in(&d, &["report", &a, "--out", "o"]);
+    assert_eq!(r.code, Some(0), "{}", r.stderr);
+    assert!(!staging_seen());
+    assert_eq!(one_complete_set(&d.join("o")), "run-a");
+    let _ = std::fs::remove_dir_all(&d);
+}
