@@ -368,8 +368,19 @@ impl CorridorSettings {
                 "step of the transition variable {dy} deg is not positive; hint: give a step such as 1"
             )));
         }
-        let speeds = spaced(from, to, ds);
         let (lo, hi) = default_value_range_rad(v);
+        // Counts in floating point before anything is allocated.
+        let max_axis = crate::limits::MAX_GRID_AXIS as f64;
+        let ns = crate::limits::point_count(from, to, ds);
+        let nv = crate::limits::point_count(lo.to_degrees(), hi.to_degrees(), dy);
+        if ns > max_axis || nv > max_axis || ns * nv > crate::limits::MAX_GRID_POINTS as f64 {
+            return Err(CorridorError::Grid(format!(
+                "the grid would have {ns:.3e} speeds x {nv:.3e} values; hint: use larger steps (at most {} per axis and {} points)",
+                crate::limits::MAX_GRID_AXIS,
+                crate::limits::MAX_GRID_POINTS
+            )));
+        }
+        let speeds = spaced(from, to, ds);
         let values: Vec<f64> = spaced(lo.to_degrees(), hi.to_degrees(), dy)
             .into_iter()
             .map(f64::to_radians)
@@ -403,9 +414,10 @@ impl CorridorSettings {
             ));
         }
         let n = self.speeds_mps.len() * self.values_rad.len();
-        if n > 1_000_000 {
+        if n > crate::limits::MAX_GRID_POINTS {
             return Err(CorridorError::Grid(format!(
-                "{n} grid points; hint: use larger steps (at most one million points)"
+                "{n} grid points; hint: use larger steps (at most {} points)",
+                crate::limits::MAX_GRID_POINTS
             )));
         }
         Ok(())

@@ -108,7 +108,8 @@ impl InputError {
 
     /// Turn a validation problem into a located error using the file's text.
     pub fn from_invalid(file: &Path, text: &str, inv: Invalid) -> InputError {
-        let line = locate_key(text, &inv.path);
+        // A table that is missing altogether has no line: the file's first line stands in.
+        let line = locate_key(text, &inv.path).or(Some(1));
         InputError {
             file: file.to_path_buf(),
             line,
@@ -119,13 +120,14 @@ impl InputError {
 
     /// Turn a TOML parse error (syntax, wrong type, unknown key) into a located error.
     pub fn from_toml(file: &Path, text: &str, e: &toml::de::Error) -> InputError {
-        let line = e.span().map(|s| line_of_offset(text, s.start));
+        // Errors without a span (the nesting limit) point at the first line.
+        let line = Some(e.span().map_or(1, |s| line_of_offset(text, s.start)));
         let mut msg = e.message().trim().to_string();
-        if let Some(l) = line.and_then(|l| text.lines().nth(l - 1)) {
-            let l = l.trim();
-            if !l.is_empty() && l.len() < 120 {
-                msg = format!("{msg} (at `{l}`)");
-            }
+        if let Some(l) = line
+            .and_then(|l| text.lines().nth(l - 1))
+            .and_then(|l| excerpt(file, "toml", l))
+        {
+            msg = format!("{msg} (at `{l}`)");
         }
         let hint = if msg.contains("unknown field") {
             "check the spelling against the file format in README.md; keys carry their unit (mass_kg, area_m2)"
@@ -141,6 +143,68 @@ impl InputError {
             hint: hint.to_string(),
         }
     }
+}
+
+/// Read a user's input file as text: only a regular file (a FIFO or a device would block or
+/// never end), at most [`crate::limits::MAX_FILE_BYTES`], valid UTF-8 (an invalid byte is
+/// reported with its line). `what` names the kind of file in messages ("vehicle file").
+pub fn read_text(path: &Path, what: &str, hint: &str) -> Result<String, InputError> {
+    use std::io::Read;
+    let max = crate::limits::MAX_FILE_BYTES;
+    let meta = std::fs::metadata(path)
+        .map_err(|e| InputError::file(path, format!("cannot read {what}: {e}"), hint))?;
+    if !meta.is_file() {
+        return Err(InputError::file(
+            path,
+            format!("cannot read {what}: not a regular file"),
+            "give the path of a text file (not a folder, pipe or device)",
+        ));
+    }
+    let too_big = || {
+        InputError::file(
+            path,
+            format!("{what} is larger than {} MiB", max / (1024 * 1024)),
+            "give the path of a hoverline text file; they are a few kB",
+        )
+    };
+    if meta.len() > max {
+        return Err(too_big());
+    }
+    let mut bytes = Vec::new();
+    std::fs::File::open(path)
+        .and_then(|f| f.take(max + 1).read_to_end(&mut bytes))
+        .map_err(|e| InputError::file(path, format!("cannot read {what}: {e}"), hint))?;
+    if bytes.len() as u64 > max {
+        return Err(too_big());
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        let at = e.utf8_error().valid_up_to();
+        let line = e.as_bytes()[..at].iter().filter(|&&b| b == b'\n').count() + 1;
+        InputError {
+            file: path.to_path_buf(),
+            line: Some(line),
+            message: format!("{what} is not valid UTF-8 text (byte {at})"),
+            hint: "save the file as UTF-8 text".into(),
+        }
+    })
+}
+
+/// A short, printable excerpt of one line of a user's file for a message: control
+/// characters dropped, at most 80 characters; `None` when `path` does not end in `ext`, so
+/// the content of a file that is not plausibly ours (`/etc/passwd`) is never echoed.
+pub fn excerpt(path: &Path, ext: &str, line: &str) -> Option<String> {
+    if path
+        .extension()
+        .is_none_or(|x| !x.eq_ignore_ascii_case(ext))
+    {
+        return None;
+    }
+    let clean: String = line.trim().chars().filter(|c| !c.is_control()).collect();
+    let mut out: String = clean.chars().take(80).collect();
+    if clean.chars().count() > 80 {
+        out.push_str("...");
+    }
+    (!out.is_empty()).then_some(out)
 }
 
 /// 1-based line number of a byte offset.

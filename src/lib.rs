@@ -9,6 +9,7 @@ pub mod corridor;
 pub mod dynamics;
 pub mod flight;
 pub mod input;
+pub mod limits;
 pub mod linear;
 pub mod loops;
 pub mod margins;

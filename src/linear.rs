@@ -193,9 +193,43 @@ pub struct Mode {
     pub level_8785c: Option<u8>,
 }
 
+/// Iteration budget of the Schur decomposition: the shifted QR iteration converges in a few
+/// iterations per eigenvalue on any finite matrix of our sizes, so the budget is only reached
+/// by a matrix it cannot handle (common practice, no source).
+pub const SCHUR_MAX_ITERATIONS: usize = 10_000;
+
+/// Why eigenvalues could not be computed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, thiserror::Error)]
+pub enum EigenError {
+    /// An entry of the matrix is infinite or NaN.
+    #[error("the linear model has a non-finite entry")]
+    NonFinite,
+    /// The Schur decomposition did not converge within [`SCHUR_MAX_ITERATIONS`].
+    #[error("the eigenvalue iteration did not converge within {SCHUR_MAX_ITERATIONS} iterations")]
+    NoConvergence,
+}
+
+/// Eigenvalues of a square matrix by the Schur decomposition, with a non-finite guard and an
+/// iteration budget (never loops forever).
+pub fn try_complex_eigenvalues(
+    a: &nalgebra::DMatrix<f64>,
+) -> Result<Vec<Complex<f64>>, EigenError> {
+    if a.iter().any(|x| !x.is_finite()) {
+        return Err(EigenError::NonFinite);
+    }
+    let schur = nalgebra::linalg::Schur::try_new(a.clone(), f64::EPSILON, SCHUR_MAX_ITERATIONS)
+        .ok_or(EigenError::NoConvergence)?;
+    let ev: Vec<Complex<f64>> = schur.complex_eigenvalues().iter().copied().collect();
+    if ev.iter().any(|l| !(l.re.is_finite() && l.im.is_finite())) {
+        return Err(EigenError::NonFinite);
+    }
+    Ok(ev)
+}
+
 /// Eigenvalues of A, each complex pair once (imag >= 0), sorted by frequency.
-pub fn eigenvalues(a: &Matrix4<f64>) -> Vec<Complex<f64>> {
-    let ev = a.complex_eigenvalues();
+pub fn try_eigenvalues(a: &Matrix4<f64>) -> Result<Vec<Complex<f64>>, EigenError> {
+    let d = nalgebra::DMatrix::from_fn(4, 4, |i, j| a[(i, j)]);
+    let ev = try_complex_eigenvalues(&d)?;
     let mut out: Vec<Complex<f64>> = Vec::new();
     for l in ev.iter() {
         if l.im < -1e-12 {
@@ -208,10 +242,24 @@ pub fn eigenvalues(a: &Matrix4<f64>) -> Vec<Complex<f64>> {
             .partial_cmp(&y.norm())
             .unwrap_or(std::cmp::Ordering::Equal)
     });
-    out
+    Ok(out)
 }
 
-/// Unit eigenvector of A for eigenvalue `lambda`, from the complex SVD of (A - lambda I).
+/// Eigenvalues of A as [`try_eigenvalues`], empty when they cannot be computed (a non-finite
+/// model; [`crate::sweep::assess`] reports that case as a reason).
+pub fn eigenvalues(a: &Matrix4<f64>) -> Vec<Complex<f64>> {
+    try_eigenvalues(a).unwrap_or_default()
+}
+
+impl LinearModel {
+    /// Whether every entry of A and B is finite.
+    pub fn is_finite(&self) -> bool {
+        self.a.iter().all(|x| x.is_finite()) && self.b.iter().flatten().all(|x| x.is_finite())
+    }
+}
+
+/// Unit eigenvector of A for eigenvalue `lambda`, from the complex SVD of (A - lambda I);
+/// zero when the SVD fails (non-finite input or iteration budget spent).
 pub fn eigenvector(a: &Matrix4<f64>, lambda: Complex<f64>) -> [Complex<f64>; 4] {
     let m: SMatrix<Complex<f64>, 4, 4> = SMatrix::from_fn(|i, j| {
         Complex::new(a[(i, j)], 0.0)
@@ -221,8 +269,15 @@ pub fn eigenvector(a: &Matrix4<f64>, lambda: Complex<f64>) -> [Complex<f64>; 4] 
                 Complex::new(0.0, 0.0)
             }
     });
-    let svd = m.svd(false, true);
     let mut v = [Complex::new(0.0, 0.0); 4];
+    // Budgeted: a matrix the SVD cannot handle gives the zero vector instead of a hang.
+    let finite = m.iter().all(|x| x.re.is_finite() && x.im.is_finite());
+    let Some(svd) = finite
+        .then(|| m.try_svd(false, true, f64::EPSILON, SCHUR_MAX_ITERATIONS))
+        .flatten()
+    else {
+        return v;
+    };
     if let Some(vt) = svd.v_t {
         // Smallest singular value's row of V^H.
         let k = (0..4)
@@ -427,6 +482,17 @@ mod tests {
                 assert!((s - l * v[i]).norm() < 1e-9);
             }
         }
+    }
+
+    #[test]
+    fn non_finite_models_return_an_error_instead_of_looping() {
+        // Common practice, no source: a NaN or infinite entry has no eigenvalues.
+        let mut a = Matrix4::identity();
+        a[(1, 2)] = f64::NAN;
+        assert_eq!(try_eigenvalues(&a), Err(EigenError::NonFinite));
+        a[(1, 2)] = f64::INFINITY;
+        assert_eq!(try_eigenvalues(&a), Err(EigenError::NonFinite));
+        assert!(modes(&a, 10.0, true).is_empty());
     }
 
     #[test]

@@ -269,7 +269,8 @@ impl ClosedLoop {
     /// Whether every eigenvalue of the closed loop has a negative real part.
     pub fn stable(&self) -> bool {
         let a = self.a_closed(&vec![1.0; self.b.len()]);
-        a.complex_eigenvalues().iter().all(|l| l.re < -1e-9)
+        // A non-finite or non-converging loop counts as not stable.
+        crate::linear::try_complex_eigenvalues(&a).is_ok_and(|ev| ev.iter().all(|l| l.re < -1e-9))
     }
 }
 

@@ -441,25 +441,56 @@ impl Scenario {
     pub fn output_dir(&self) -> PathBuf {
         match &self.file.output_dir {
             Some(d) => PathBuf::from(d),
-            None => PathBuf::from("out").join(&self.file.name),
+            None => PathBuf::from("out").join(folder_name(&self.file.name)),
         }
+    }
+}
+
+/// A name made safe as one path component: characters other than letters, digits, `-`, `_`
+/// and `.` become `_`, leading dots are dropped (no `..`, no hidden folder, no separator).
+pub fn folder_name(name: &str) -> String {
+    let s: String = name
+        .chars()
+        .map(|c| {
+            if c.is_alphanumeric() || matches!(c, '-' | '_' | '.') {
+                c
+            } else {
+                '_'
+            }
+        })
+        .collect();
+    let s = s.trim_start_matches('.');
+    if s.is_empty() {
+        "scenario".into()
+    } else {
+        s.to_string()
     }
 }
 
 /// Read, parse and validate a scenario file and the vehicle it names.
 pub fn load_scenario(path: &Path) -> Result<Scenario, InputError> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        InputError::file(
-            path,
-            format!("cannot read scenario file: {e}"),
-            "check the path; demo scenarios are in scenarios/",
-        )
-    })?;
+    let text = crate::input::read_text(
+        path,
+        "scenario file",
+        "check the path; demo scenarios are in scenarios/",
+    )?;
     let file: ScenarioFile =
         toml::from_str(&text).map_err(|e| InputError::from_toml(path, &text, &e))?;
     let dir = path.parent().unwrap_or(Path::new("."));
     let vehicle_path = dir.join(&file.vehicle);
-    let base = load_vehicle(&vehicle_path)?;
+    let base = load_vehicle(&vehicle_path).map_err(|e| {
+        // A vehicle file that cannot be read is reported on the `vehicle =` line.
+        if e.line.is_none() && e.file == vehicle_path {
+            let inv = Invalid::new(
+                KeyPath::root().key("vehicle"),
+                format!("{}: {}", vehicle_path.display(), e.message),
+                e.hint,
+            );
+            InputError::from_invalid(path, &text, inv)
+        } else {
+            e
+        }
+    })?;
     build(file, path, vehicle_path, base).map_err(|inv| InputError::from_invalid(path, &text, inv))
 }
 
@@ -471,6 +502,67 @@ fn finite(path: KeyPath, v: f64) -> Result<f64, Invalid> {
             path,
             format!("{v} is not a finite number"),
             "write a plain decimal number",
+        ))
+    }
+}
+
+/// Refuse a `[flight]` sample step that would record more than
+/// [`crate::limits::MAX_FLIGHT_SAMPLES`] samples over the longest flight the sweep range allows.
+fn flight_sample_count(file: &ScenarioFile, from: f64, to: f64) -> Result<(), Invalid> {
+    let f = &file.flight;
+    let tr = &file.transition;
+    // The simulation leaves room for three times the planned ramp (flight::Reference).
+    let ramp = (to - from) / tr.acceleration_mps2.min(tr.deceleration_mps2);
+    let duration =
+        (f.hold_before_s + 3.0 * ramp + f.hold_after_s).min(crate::flight::MAX_DURATION_S);
+    let count = duration / f.sample_step_s + 2.0;
+    let max = crate::limits::MAX_FLIGHT_SAMPLES;
+    if count > max as f64 {
+        return Err(Invalid::new(
+            KeyPath::root().key("flight").key("sample_step_s"),
+            format!(
+                "a flight of up to {duration:.0} s would record {count:.3e} samples (at most {max})"
+            ),
+            format!(
+                "give a sample step of at least {:.2e} s; 0.02 s is the default",
+                duration / (max as f64 - 2.0)
+            ),
+        ));
+    }
+    Ok(())
+}
+
+/// Finite and inside one of the sanity bounds of [`crate::limits`].
+fn bounded(path: KeyPath, v: f64, b: crate::limits::Bound) -> Result<f64, Invalid> {
+    let v = finite(path.clone(), v)?;
+    if b.contains(v) {
+        Ok(v)
+    } else {
+        Err(Invalid::new(
+            path,
+            format!("{} is outside {}", b.value(v), b.text()),
+            format!(
+                "give a value within {} (our sanity bound, see README.md)",
+                b.text()
+            ),
+        ))
+    }
+}
+
+/// Refuse an airspeed outside [`crate::limits::SPEED_MPS`].
+fn speed_in_bound(path: KeyPath, v: f64) -> Result<f64, Invalid> {
+    let b = crate::limits::SPEED_MPS;
+    if b.contains(v) {
+        Ok(v)
+    } else {
+        Err(Invalid::new(
+            path,
+            format!(
+                "airspeed {} m/s is outside {}",
+                crate::limits::show(v),
+                b.text()
+            ),
+            format!("give an airspeed within {} (our sanity bound)", b.text()),
         ))
     }
 }
@@ -533,6 +625,7 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
             "start at 0 m/s or above",
         ));
     }
+    speed_in_bound(p.key("speed_mps"), s.speed_mps[s.speed_mps.len() - 1])?;
     let (lo, hi) = match s.mode {
         ScheduleMode::Tilt => v
             .actuators
@@ -569,32 +662,51 @@ fn build(
     base: Vehicle,
 ) -> Result<Scenario, Invalid> {
     let root = KeyPath::root();
+    if let Some(m) = crate::limits::name_problem(&file.name) {
+        return Err(Invalid::new(root.key("name"), m, crate::limits::NAME_HINT));
+    }
     let ap = root.key("atmosphere");
     let alt = finite(ap.key("altitude_m"), file.atmosphere.altitude_m)?;
     let dt = finite(
         ap.key("temperature_offset_k"),
         file.atmosphere.temperature_offset_k,
     )?;
-    if let Err(e) = crate::atmosphere::isa(alt, dt) {
+    let tb = crate::limits::TEMPERATURE_OFFSET_K;
+    if !tb.contains(dt) {
+        return Err(Invalid::new(
+            ap.key("temperature_offset_k"),
+            format!("{} is outside {}", tb.value(dt), tb.text()),
+            format!(
+                "give an offset from ISA within {} (our sanity bound)",
+                tb.text()
+            ),
+        ));
+    }
+    if crate::atmosphere::isa(alt, dt).is_err() {
         return Err(Invalid::new(
             ap.key("altitude_m"),
-            e.to_string(),
+            format!(
+                "altitude {} m lies outside the model",
+                crate::limits::show(alt)
+            ),
             "use an altitude within the troposphere (-500..11000 m)",
         ));
     }
     let mp = root.key("mass_case");
     if let Some(m) = file.mass_case.mass_kg {
-        if !(m.is_finite() && m > 0.0) {
-            return Err(Invalid::new(
-                mp.key("mass_kg"),
-                format!("mass must be positive, got {m}"),
-                "give the mass in kg or remove the key",
-            ));
-        }
+        bounded(mp.key("mass_kg"), m, crate::limits::MASS_KG)?;
     }
     let shift = Point {
-        x_m: finite(mp.key("cg_shift_x_m"), file.mass_case.cg_shift_x_m)?,
-        z_m: finite(mp.key("cg_shift_z_m"), file.mass_case.cg_shift_z_m)?,
+        x_m: bounded(
+            mp.key("cg_shift_x_m"),
+            file.mass_case.cg_shift_x_m,
+            crate::limits::POSITION_M,
+        )?,
+        z_m: bounded(
+            mp.key("cg_shift_z_m"),
+            file.mass_case.cg_shift_z_m,
+            crate::limits::POSITION_M,
+        )?,
     };
     let vehicle = base.with_mass_case(file.mass_case.mass_kg, shift);
 
@@ -623,14 +735,21 @@ fn build(
             "give a step such as 1.0 m/s",
         ));
     }
-    let n = ((to - from) / step + 1e-9).floor() as usize + 1;
-    if n > 100_000 {
+    speed_in_bound(sp.key("from_mps"), from)?;
+    speed_in_bound(sp.key("to_mps"), to)?;
+    // The count in floating point first: a tiny step must not wrap the cast.
+    let count = crate::limits::point_count(from, to, step);
+    if count > crate::limits::MAX_SWEEP_POINTS as f64 {
         return Err(Invalid::new(
             sp.key("step_mps"),
-            format!("the sweep would have {n} points"),
-            "use a larger step (at most 100000 points)",
+            format!("the sweep would have {count:.3e} points"),
+            format!(
+                "use a larger step (at most {} points)",
+                crate::limits::MAX_SWEEP_POINTS
+            ),
         ));
     }
+    let n = ((to - from) / step + 1e-9).floor() as usize + 1;
     let mut speeds: Vec<f64> = (0..n).map(|i| from + i as f64 * step).collect();
     if (to - speeds[n - 1]).abs() > 1e-9 * to.abs().max(1.0) {
         speeds.push(to);
@@ -658,7 +777,14 @@ fn build(
         ("gain_margin_db", th.gain_margin_db),
         ("phase_margin_deg", th.phase_margin_deg),
     ] {
-        finite(tp.key(k), v)?;
+        // Zero or below would switch the check off without saying so.
+        if finite(tp.key(k), v)? <= 0.0 {
+            return Err(Invalid::new(
+                tp.key(k),
+                format!("threshold must be greater than zero, got {v}"),
+                "give a positive threshold; a threshold of zero or below would switch its check off",
+            ));
+        }
     }
     let share = finite(tp.key("stalled_load_share"), th.stalled_load_share)?;
     if !(crate::margins::LOADED_PART_SHARE..=1.0).contains(&share) {
@@ -683,7 +809,18 @@ fn build(
                 "give a positive value",
             ));
         }
+        let b = crate::limits::ACCELERATION_MPS2;
+        if k != "smoothness_deg_per_mps2" && !b.contains(v) {
+            return Err(Invalid::new(
+                trp.key(k),
+                format!("{} m/s^2 is outside {}", crate::limits::show(v), b.text()),
+                format!("give a value within {} (our sanity bound)", b.text()),
+            ));
+        }
     }
+    // One validation of [flight], whichever command reads it.
+    crate::flight::FlightSettings::from_file(&file.flight, tr, climb.to_radians())?;
+    flight_sample_count(&file, from, to)?;
     Ok(Scenario {
         file,
         path: path.to_path_buf(),
@@ -710,6 +847,14 @@ mod tests {
         assert!((t.at(15.0) - 0.25).abs() < 1e-12);
         assert_eq!(t.at(30.0), 0.0);
     }
+
+    #[test]
+    fn folder_names_stay_inside_their_parent() {
+        // Common practice, no source: a path component holds no separator and is not `..`.
+        assert_eq!(folder_name("../../escaped"), "_.._escaped");
+        assert_eq!(folder_name(".."), "scenario");
+        assert_eq!(folder_name("courier-transition"), "courier-transition");
+    }
 }
 
 /// A schedule file: a TOML file with a `[schedule]` table in the scenario format, optionally
@@ -729,13 +874,11 @@ pub struct ScheduleDocument {
 
 /// Read and validate a schedule file for a vehicle.
 pub fn load_schedule_file(path: &Path, v: &Vehicle) -> Result<Schedule, InputError> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        InputError::file(
-            path,
-            format!("cannot read schedule file: {e}"),
-            "give a file written by `hoverline schedule` or a TOML file with a [schedule] table",
-        )
-    })?;
+    let text = crate::input::read_text(
+        path,
+        "schedule file",
+        "give a file written by `hoverline schedule` or a TOML file with a [schedule] table",
+    )?;
     let doc: ScheduleDocument =
         toml::from_str(&text).map_err(|e| InputError::from_toml(path, &text, &e))?;
     build_schedule(&doc.schedule, v, &KeyPath::root().key("schedule"))

@@ -346,6 +346,14 @@ fn dp(
     let nv = g.values_rad.len();
     let y = &g.values_rad;
     let kk = knots.len();
+    // The table holds knots x values x values cells: check before allocating.
+    let cells = kk as f64 * nv as f64 * nv as f64;
+    if cells > crate::limits::MAX_SCHEDULE_CELLS as f64 {
+        return Err(ScheduleError::Settings(format!(
+            "the optimiser's table would have {cells:.3e} cells (knots x values x values); hint: use a larger --value-step or --knot-spacing (at most {} cells)",
+            crate::limits::MAX_SCHEDULE_CELLS
+        )));
+    }
     let neg = f64::NEG_INFINITY;
     // Value of a state: bottleneck (pass 1) or clamped sum with every margin >= floor (pass 2).
     let init = |j: usize| -> f64 {

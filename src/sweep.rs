@@ -294,6 +294,18 @@ pub fn assess(
         return report;
     }
     let lin = linearise(v, atm, &sol.state, &sol.controls);
+    // Absurd magnitudes can overflow the model: no modes or margins from a non-finite one.
+    let eigen = if lin.is_finite() {
+        crate::linear::try_eigenvalues(&lin.a).map(|_| ())
+    } else {
+        Err(crate::linear::EigenError::NonFinite)
+    };
+    if let Err(err) = eigen {
+        report.trimmed = false;
+        report.reasons.push(format!("untrimmable: {err}"));
+        report.reason_kinds.push("untrimmable".into());
+        return report;
+    }
     let e = &sol.evaluation;
     let share = crate::margins::lift_share(v, &sol.state, e);
     let ms = modes(

@@ -657,7 +657,17 @@ fn optimise_nelder_mead(p: &mut Problem, z: &mut [f64], f: &mut Point3) -> usize
     jacobian(p, z, f, &free[..n], &mut jac, &mut grad);
     let jm = nalgebra::DMatrix::from_fn(m, n, |i, j| jac[i][j]);
     let full = jm.transpose() * &jm;
-    let eig = full.symmetric_eigen();
+    // Non-finite derivatives or a decomposition past its budget: no optimisation step.
+    if full.iter().any(|x| !x.is_finite()) {
+        return 0;
+    }
+    let Some(eig) = nalgebra::linalg::SymmetricEigen::try_new(
+        full,
+        f64::EPSILON,
+        crate::linear::SCHUR_MAX_ITERATIONS,
+    ) else {
+        return 0;
+    };
     let mut idx: Vec<usize> = (0..n).collect();
     idx.sort_by(|&a, &b| {
         eig.eigenvalues[a]

@@ -35,13 +35,13 @@ pub fn run(a: CheckArgs) -> Result<(), CliError> {
     if a.json {
         print_json(&s)?;
     } else {
-        print!("{}", text::check(&s));
+        out!("{}", text::check(&s));
     }
     if let Some(dir) = a.plot {
         let files = hoverline::output::plots::polars(&v, &dir)?;
         if !a.json {
             for f in files {
-                println!("wrote {}", f.display());
+                outln!("wrote {}", f.display());
             }
         }
     }

@@ -87,7 +87,7 @@ pub(super) fn compute_with_bar(sc: &Scenario, s: &CorridorSettings) -> Result<Co
 pub(super) fn summary(sc: &Scenario, c: &Corridor) {
     let inside = c.points.iter().filter(|p| p.inside).count();
     let trimmed = c.points.iter().filter(|p| p.trimmed).count();
-    println!(
+    outln!(
         "corridor: {} ({}), {} x {} grid: {} speeds {:.1}..{:.1} m/s, {} {:.1}..{:.1} deg",
         sc.file.name,
         sc.vehicle.name,
@@ -100,11 +100,11 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
         c.values_deg[0],
         c.values_deg[c.values_deg.len() - 1],
     );
-    println!("  trim: {}", c.condition);
+    outln!("  trim: {}", c.condition);
     if let Some((lo, hi)) = c.pitch_limits_deg {
-        println!("  pitch attitude allowed inside: {lo:.1}..{hi:.1} deg");
+        outln!("  pitch attitude allowed inside: {lo:.1}..{hi:.1} deg");
     }
-    println!(
+    outln!(
         "  {} of {} points trimmed, {} inside the corridor",
         trimmed,
         c.points.len(),
@@ -112,16 +112,16 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
     );
     let bands = c.speed_bands();
     if bands.is_empty() {
-        println!("  no speed has a point inside the corridor");
+        outln!("  no speed has a point inside the corridor");
     } else {
         let b: Vec<String> = bands
             .iter()
             .map(|(a, b)| format!("{a:.2}..{b:.2}"))
             .collect();
-        println!("  speeds with a point inside: {} m/s", b.join(", "));
+        outln!("  speeds with a point inside: {} m/s", b.join(", "));
     }
     // Per speed a few rows: the inside range and the best point.
-    println!(
+    outln!(
         "   V_mps  inside {} range (deg)           best point",
         c.variable.name()
     );
@@ -149,7 +149,7 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
                 .unwrap_or(f64::INFINITY)
                 .total_cmp(&b.smallest_margin.unwrap_or(f64::INFINITY))
         });
-        println!(
+        outln!(
             "  {:6.2}  {:<32} {}",
             c.speeds_mps[i],
             range,
@@ -158,9 +158,9 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
     }
     let reasons = c.reason_counts();
     if !reasons.is_empty() {
-        println!("  outside the corridor because of:");
+        outln!("  outside the corridor because of:");
         for (r, n) in reasons {
-            println!("    {r:<40} {n} points");
+            outln!("    {r:<40} {n} points");
         }
     }
 }
@@ -178,8 +178,8 @@ pub fn run(a: CorridorArgs) -> Result<(), CliError> {
     }
     summary(&sc, &c);
     for f in files {
-        println!("wrote {}", f.display());
+        outln!("wrote {}", f.display());
     }
-    println!("{}", hoverline::output::CAUTION);
+    outln!("{}", hoverline::output::CAUTION);
     Ok(())
 }

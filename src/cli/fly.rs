@@ -125,18 +125,18 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
             &sc, &sweep, &flight,
         ))?;
     } else {
-        print!(
+        out!(
             "{}",
             hoverline::output::flight_files::text(&sc, &sweep, &flight)
         );
         if let Some(d) = &dispersion {
-            print!(
+            out!(
                 "{}",
                 hoverline::output::flight_files::dispersion_text(&sc, d)
             );
         }
         for f in files {
-            println!("wrote {}", f.display());
+            outln!("wrote {}", f.display());
         }
     }
     Ok(())

@@ -1,5 +1,22 @@
 //! Command-line arguments (clap) and the dispatch to one file per command.
 
+/// `print!` to stdout that stops quietly once stdout is closed (see [`write_stdout`]).
+macro_rules! out {
+    ($($t:tt)*) => {
+        $crate::cli::write_stdout(format_args!($($t)*))
+    };
+}
+
+/// `println!` to stdout that stops quietly once stdout is closed (see [`write_stdout`]).
+macro_rules! outln {
+    () => {
+        $crate::cli::write_stdout(format_args!("\n"))
+    };
+    ($($t:tt)*) => {
+        $crate::cli::write_stdout(format_args!("{}\n", format_args!($($t)*)))
+    };
+}
+
 mod check;
 mod corridor;
 mod fly;
@@ -98,10 +115,28 @@ pub fn run(args: Args) -> Result<(), CliError> {
     }
 }
 
+/// Set once stdout is found closed (a pager or `head` quit reading).
+static STDOUT_CLOSED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
+
+/// Write to stdout. A closed stdout (broken pipe) is not an error of the command: printing
+/// stops quietly and the command goes on to write its files and exit 0, so
+/// `hoverline sweep s.toml | head` loses nothing.
+pub(crate) fn write_stdout(args: std::fmt::Arguments) {
+    use std::io::Write;
+    use std::sync::atomic::Ordering;
+    if STDOUT_CLOSED.load(Ordering::Relaxed) {
+        return;
+    }
+    let mut out = std::io::stdout().lock();
+    if out.write_fmt(args).and_then(|_| out.flush()).is_err() {
+        STDOUT_CLOSED.store(true, Ordering::Relaxed);
+    }
+}
+
 /// Print JSON to stdout.
 fn print_json<T: serde::Serialize>(v: &T) -> Result<(), CliError> {
     let s = serde_json::to_string_pretty(v).map_err(|e| CliError::Analysis(e.to_string()))?;
-    println!("{s}");
+    outln!("{s}");
     Ok(())
 }
 
@@ -110,6 +145,15 @@ fn atmosphere(
     altitude_m: f64,
     offset_k: f64,
 ) -> Result<hoverline::atmosphere::Atmosphere, CliError> {
+    let b = hoverline::limits::TEMPERATURE_OFFSET_K;
+    if !b.contains(offset_k) {
+        return Err(CliError::Usage(format!(
+            "--temperature-offset-k {} lies outside {}\n  hint: give an offset from ISA within {} (our sanity bound)",
+            hoverline::limits::show(offset_k),
+            b.text(),
+            b.text()
+        )));
+    }
     hoverline::atmosphere::isa(altitude_m, offset_k)
         .map_err(|e| CliError::Usage(format!("--altitude-m / --temperature-offset-k: {e}")))
 }

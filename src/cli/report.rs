@@ -134,7 +134,10 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
             "give an altitude inside the troposphere (0..11000 m) and a modest temperature offset",
         ))
     })?;
-    let dir = a.out.clone().unwrap_or_else(|| sc.output_dir());
+    let out_dir = a.out.clone().unwrap_or_else(|| sc.output_dir());
+    // The run is written as a set: staged, then moved in with the page last.
+    let run = files::RunFolder::begin(&out_dir)?;
+    let dir = run.staging().to_path_buf();
     let mut written: Vec<PathBuf> = Vec::new();
 
     // 1. The sweep along the schedule in use.
@@ -265,13 +268,15 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
     };
     let summary = report::summary(&inputs);
     files::write_json(&dir.join("report.json"), &summary)?;
-    let path = report::write(&dir, &inputs)?;
+    let staged = report::write(&dir, &inputs)?;
+    run.commit(&["report.json", "report.html"])?;
+    let path = out_dir.join(staged.strip_prefix(&dir).unwrap_or(&staged));
 
     if a.json {
         super::print_json(&summary)?;
     } else {
         let colour = use_colour();
-        println!(
+        outln!(
             "report: {} ({}), {} unsafe, {} caution, {} ok, {} notes",
             sc.file.name,
             sc.vehicle.name,
@@ -292,11 +297,11 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
             } else {
                 word.to_string()
             };
-            println!("  {word} {}: {}", x.topic, x.text);
+            outln!("  {word} {}: {}", x.topic, x.text);
         }
-        println!("wrote {}", path.display());
-        println!("  and {} data files beside it", names.len());
-        println!("{}", hoverline::output::CAUTION);
+        outln!("wrote {}", path.display());
+        outln!("  and {} data files beside it", names.len());
+        outln!("{}", hoverline::output::CAUTION);
     }
     if !summary.not_available.is_empty() {
         let parts: Vec<String> = summary

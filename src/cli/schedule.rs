@@ -53,8 +53,11 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
         sc.file.atmosphere.temperature_offset_k,
     )
     .map_err(|e| CliError::Analysis(e.to_string()))?;
-    let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule)
-        .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let b = build(&sc.vehicle, &atm, &s, &c, &ss, &sc.schedule).map_err(|e| match e {
+        // Settings come from the flags and the scenario: bad input.
+        hoverline::schedule::ScheduleError::Settings(_) => CliError::Usage(e.to_string()),
+        _ => CliError::Analysis(e.to_string()),
+    })?;
 
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
     let files = write_schedule(&dir, &sc, &c, &b)?;
@@ -64,39 +67,39 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
     }
     print_text(&sc, &b);
     for f in files {
-        println!("wrote {}", f.display());
+        outln!("wrote {}", f.display());
     }
-    println!("{}", hoverline::output::CAUTION);
+    outln!("{}", hoverline::output::CAUTION);
     Ok(())
 }
 
 /// Print the human summary of a built schedule.
 fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::BuiltSchedule) {
     let k = &b.constraints;
-    println!(
+    outln!(
         "schedule: {} ({}), {} against airspeed",
         sc.file.name,
         sc.vehicle.name,
         b.variable.name()
     );
-    println!(
+    outln!(
         "  constraints: non-increasing; |d/dV| <= {:.2} deg per m/s ({:.1} deg/s at {:.2} m/s^2); |d2/dV2| <= {:.2} deg per (m/s)^2; knots every {:.2} m/s",
         k.max_slope_deg_per_mps, k.rate_limit_deg_s, k.acceleration_mps2, k.smoothness_deg_per_mps2, k.knot_spacing_mps
     );
-    println!("   V_mps  {:>8}", format!("{}_deg", b.variable.name()));
+    outln!("   V_mps  {:>8}", format!("{}_deg", b.variable.name()));
     for (v, y) in b.speed_mps.iter().zip(&b.value_deg) {
-        println!("  {v:6.2}  {y:8.2}");
+        outln!("  {v:6.2}  {y:8.2}");
     }
     match &b.left_corridor {
-        None => println!(
+        None => outln!(
             "  smallest margin on the grid (dynamic programming): {:.3}",
             b.grid_smallest_margin
         ),
-        Some(note) => println!("  NOTE: {note}"),
+        Some(note) => outln!("  NOTE: {note}"),
     }
-    println!("  worst point, re-trimmed: {}", describe(&b.worst));
+    outln!("  worst point, re-trimmed: {}", describe(&b.worst));
     if b.built.outside > 0 {
-        println!(
+        outln!(
             "  {} re-trimmed points fall outside the corridor",
             b.built.outside
         );
@@ -107,7 +110,7 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
             .iter()
             .map(|(a, b)| format!("{a:.1}..{b:.1}"))
             .collect();
-        println!(
+        outln!(
             "  acceleration available below the planned {:.2} m/s^2 at {} m/s",
             k.acceleration_mps2,
             s.join(", ")
@@ -115,12 +118,13 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
     }
     match &b.scenario {
         Some(o) => {
-            println!("  compared with {}:", o.label);
-            println!("    its worst point: {}", describe(&o.worst));
+            outln!("  compared with {}:", o.label);
+            outln!("    its worst point: {}", describe(&o.worst));
             if o.outside > 0 {
-                println!(
+                outln!(
                     "    {} of its points are outside the corridor ({} untrimmable)",
-                    o.outside, o.untrimmed
+                    o.outside,
+                    o.untrimmed
                 );
             }
             for band in &b.comparison {
@@ -135,18 +139,19 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
                     "scenario" => "scenario's is better",
                     _ => "equal",
                 };
-                println!(
+                outln!(
                     "    {:6.2}..{:6.2} m/s: {who}{d}",
-                    band.from_mps, band.to_mps
+                    band.from_mps,
+                    band.to_mps
                 );
             }
             if let Some((better, why)) = verdict(b) {
-                println!(
+                outln!(
                     "  the built schedule is {}: {why}",
                     if better { "better" } else { "NOT better" }
                 );
             }
         }
-        None => println!("  the scenario has no schedule of this kind to compare with"),
+        None => outln!("  the scenario has no schedule of this kind to compare with"),
     }
 }

@@ -51,11 +51,11 @@ pub fn run(a: SweepArgs) -> Result<(), CliError> {
     bar.set_prefix("trimming");
     let result = run_sweep(&sc.vehicle, &atm, &settings, &|| bar.inc(1));
     bar.finish_and_clear();
-    print!("{}", text::sweep(&sc.file.name, &result));
+    out!("{}", text::sweep(&sc.file.name, &result));
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
     let files = hoverline::output::sweep_files::write(&dir, &sc, &result)?;
     for f in files {
-        println!("wrote {}", f.display());
+        outln!("wrote {}", f.display());
     }
     Ok(())
 }

@@ -62,10 +62,13 @@ impl From<ObjectiveArg> for Objective {
 
 /// Run `trim`.
 pub fn run(a: TrimArgs) -> Result<(), CliError> {
-    if !(a.speed.is_finite() && a.speed >= 0.0) {
+    let sb = hoverline::limits::SPEED_MPS;
+    if !sb.contains(a.speed) {
         return Err(CliError::Usage(format!(
-            "--speed {} must be a non-negative number of m/s",
-            a.speed
+            "--speed {} lies outside {}\n  hint: give an airspeed within {} (our sanity bound)",
+            hoverline::limits::show(a.speed),
+            sb.text(),
+            sb.text()
         )));
     }
     if !a.climb_deg.is_finite() || a.climb_deg.abs() > 60.0 {
@@ -111,7 +114,7 @@ pub fn run(a: TrimArgs) -> Result<(), CliError> {
     if a.json {
         print_json(&report)?;
     } else {
-        print!("{}", text::point(&report));
+        out!("{}", text::point(&report));
     }
     Ok(())
 }

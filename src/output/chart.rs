@@ -18,7 +18,6 @@
 
 use std::ffi::OsString;
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicUsize, Ordering};
 use std::sync::Once;
 
 use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
@@ -431,17 +430,20 @@ fn write_both(stem: &Path, size: (u32, u32), fig: &Figure) -> Result<Vec<PathBuf
     write_atomic(&svg, text.as_bytes())?;
 
     // The bitmap encoder picks the format from the extension, so the temporary name ends in
-    // .png; a counter keeps parallel renders in one process apart.
-    static COUNTER: AtomicUsize = AtomicUsize::new(0);
+    // .png; its random part keeps parallel renders apart.
     let name = png
         .file_name()
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_default();
-    let tmp = dir.join(format!(
-        ".{name}.tmp{}-{}.png",
-        std::process::id(),
-        COUNTER.fetch_add(1, Ordering::Relaxed)
-    ));
+    // Reserve an unpredictable name exclusively; the encoder then writes our own file.
+    let (tmp, reserved) =
+        crate::output::files::create_temporary(dir, &name, "tmp.png").map_err(|source| {
+            WriteError {
+                path: png.clone(),
+                source,
+            }
+        })?;
+    drop(reserved);
     let drawn = {
         let root = BitMapBackend::new(&tmp, size).into_drawing_area();
         fig.draw(&root).and_then(|_| root.present())

@@ -38,15 +38,197 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         .file_name()
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_default();
-    let tmp = dir.join(format!(".{name}.tmp{}", std::process::id()));
-    let mut f = std::fs::File::create(&tmp).map_err(err)?;
-    f.write_all(bytes).map_err(err)?;
-    f.sync_all().map_err(err)?;
+    let (tmp, mut f) = create_temporary(dir, &name, "tmp").map_err(err)?;
+    let written = f.write_all(bytes).and_then(|_| f.sync_all());
     drop(f);
+    if let Err(e) = written {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(err(e));
+    }
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
         err(e)
     })
+}
+
+/// An unpredictable number for a file name: std's RandomState is seeded from the operating
+/// system's random source; the process id, `salt` and the clock are mixed in.
+fn random_u64(salt: u32) -> u64 {
+    use std::hash::{BuildHasher, Hasher};
+    let mut h = std::collections::hash_map::RandomState::new().build_hasher();
+    h.write_u32(std::process::id());
+    h.write_u32(salt);
+    let nanos = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_nanos());
+    h.write_u128(nanos);
+    h.finish()
+}
+
+/// Create a new temporary file `.<name>.<random>.<suffix>` in `dir`, exclusively (create-new:
+/// an existing file or a planted symlink at that name is never opened) under an unpredictable
+/// name.
+pub fn create_temporary(
+    dir: &Path,
+    name: &str,
+    suffix: &str,
+) -> std::io::Result<(PathBuf, std::fs::File)> {
+    let mut last = None;
+    for attempt in 0u32..16 {
+        let tmp = dir.join(format!(".{name}.{:016x}.{suffix}", random_u64(attempt)));
+        match std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&tmp)
+        {
+            Ok(f) => return Ok((tmp, f)),
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => last = Some(e),
+            Err(e) => return Err(e),
+        }
+    }
+    Err(last.unwrap_or_else(|| std::io::Error::other("no temporary name is free")))
+}
+
+/// Name of the lock file of a run folder.
+pub const RUN_LOCK: &str = ".hoverline-run.lock";
+
+/// Prefix of a run's hidden staging folder.
+const STAGING_PREFIX: &str = ".hoverline-staging-";
+
+/// One run's output written as a set: every file goes into a hidden staging folder inside
+/// `dir`, and [`RunFolder::commit`] moves them into `dir` with the files named last (the
+/// report page) moved last, so a reader never sees figures of one run beside the page of
+/// another. A lock file refuses a second run into the same folder while one is active; a
+/// failed or abandoned run leaves the old set in place, and its staging folder is removed
+/// when the run ends or by the next run (after an interrupt).
+#[derive(Debug)]
+pub struct RunFolder {
+    dir: PathBuf,
+    staging: PathBuf,
+    lock: PathBuf,
+}
+
+fn io_err(path: &Path) -> impl Fn(std::io::Error) -> WriteError + '_ {
+    move |source| WriteError {
+        path: path.to_path_buf(),
+        source,
+    }
+}
+
+/// Whether the process that wrote a lock file is still running (Linux: its /proc entry);
+/// without /proc a lock counts as held.
+fn lock_held(lock: &Path) -> bool {
+    let Ok(text) = std::fs::read_to_string(lock) else {
+        return false;
+    };
+    let Ok(pid) = text.trim().parse::<u32>() else {
+        return false;
+    };
+    let proc = Path::new("/proc");
+    !proc.is_dir() || proc.join(pid.to_string()).exists()
+}
+
+impl RunFolder {
+    /// Lock `dir` (created if needed) for this run and open a fresh staging folder in it.
+    pub fn begin(dir: &Path) -> Result<RunFolder, WriteError> {
+        ensure_dir(dir)?;
+        let lock = dir.join(RUN_LOCK);
+        let mut tries = 0;
+        let mut f = loop {
+            match std::fs::OpenOptions::new()
+                .write(true)
+                .create_new(true)
+                .open(&lock)
+            {
+                Ok(f) => break f,
+                Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && tries == 0 => {
+                    if lock_held(&lock) {
+                        return Err(WriteError {
+                            path: dir.to_path_buf(),
+                            source: std::io::Error::other(format!(
+                                "another hoverline run is writing into this folder\n  hint: wait for it, give another --out, or remove {} if no run is active",
+                                lock.display()
+                            )),
+                        });
+                    }
+                    // Left by an interrupted run.
+                    let _ = std::fs::remove_file(&lock);
+                    tries += 1;
+                }
+                Err(e) => return Err(io_err(&lock)(e)),
+            }
+        };
+        f.write_all(std::process::id().to_string().as_bytes())
+            .map_err(io_err(&lock))?;
+        drop(f);
+        // Staging folders of interrupted runs (the lock is ours now).
+        if let Ok(entries) = std::fs::read_dir(dir) {
+            for e in entries.flatten() {
+                if e.file_name().to_string_lossy().starts_with(STAGING_PREFIX) {
+                    let _ = std::fs::remove_dir_all(e.path());
+                }
+            }
+        }
+        let mut run = RunFolder {
+            dir: dir.to_path_buf(),
+            staging: PathBuf::new(),
+            lock,
+        };
+        let staging = dir.join(format!("{STAGING_PREFIX}{:016x}", random_u64(0)));
+        // create_dir fails on an existing name: the folder is ours alone.
+        std::fs::create_dir(&staging).map_err(io_err(&staging))?;
+        run.staging = staging;
+        Ok(run)
+    }
+
+    /// The folder this run writes into until [`RunFolder::commit`].
+    pub fn staging(&self) -> &Path {
+        &self.staging
+    }
+
+    /// Move every staged file into the run folder (the names in `last` after all others) and
+    /// return their final paths.
+    pub fn commit(self, last: &[&str]) -> Result<Vec<PathBuf>, WriteError> {
+        let mut names: Vec<std::ffi::OsString> = std::fs::read_dir(&self.staging)
+            .map_err(io_err(&self.staging))?
+            .filter_map(|e| e.ok().map(|e| e.file_name()))
+            .collect();
+        names.sort_by_key(|n| {
+            let s = n.to_string_lossy();
+            (
+                last.iter().position(|l| *l == s).map_or(0, |i| i + 1),
+                s.to_string(),
+            )
+        });
+        let mut out = Vec::new();
+        for n in names {
+            let to = self.dir.join(&n);
+            std::fs::rename(self.staging.join(&n), &to).map_err(io_err(&to))?;
+            out.push(to);
+        }
+        Ok(out)
+    }
+}
+
+impl Drop for RunFolder {
+    fn drop(&mut self) {
+        if !self.staging.as_os_str().is_empty() {
+            let _ = std::fs::remove_dir_all(&self.staging);
+        }
+        let _ = std::fs::remove_file(&self.lock);
+    }
+}
+
+/// A text cell that a spreadsheet would run as a formula (first character `=`, `+`, `-`,
+/// `@`, tab or carriage return) gets a leading `'`; numbers are left alone (OWASP guidance on
+/// CSV injection).
+pub fn neutralise_cell(cell: &str) -> std::borrow::Cow<'_, str> {
+    let risky = cell.starts_with(['=', '+', '-', '@', '\t', '\r']);
+    if risky && cell.trim().parse::<f64>().is_err() {
+        std::borrow::Cow::Owned(format!("'{cell}"))
+    } else {
+        std::borrow::Cow::Borrowed(cell)
+    }
 }
 
 /// Serialise `value` as pretty JSON and write it atomically.
@@ -67,7 +249,8 @@ pub fn write_csv(path: &Path, header: &[String], rows: &[Vec<String>]) -> Result
     };
     w.write_record(header).map_err(io)?;
     for r in rows {
-        w.write_record(r).map_err(io)?;
+        w.write_record(r.iter().map(|c| neutralise_cell(c).into_owned()))
+            .map_err(io)?;
     }
     let bytes = w.into_inner().map_err(|e| WriteError {
         path: path.to_path_buf(),
@@ -93,6 +276,33 @@ mod tests {
             .filter(|e| e.file_name().to_string_lossy().contains(".tmp"))
             .collect();
         assert!(leftovers.is_empty());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn formula_cells_are_neutralised_and_numbers_kept() {
+        // Source: OWASP, CSV Injection (cells starting with = + - @ tab CR).
+        assert_eq!(neutralise_cell("=HYPERLINK(\"x\")"), "'=HYPERLINK(\"x\")");
+        assert_eq!(neutralise_cell("@sum"), "'@sum");
+        assert_eq!(neutralise_cell("-1.5e-3"), "-1.5e-3");
+        assert_eq!(neutralise_cell("wing"), "wing");
+    }
+
+    #[cfg(unix)]
+    #[test]
+    fn a_planted_symlink_is_not_followed() {
+        // Common practice, no source: temporaries are created exclusively.
+        let dir = std::env::temp_dir().join(format!("hoverline-link-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        let victim = dir.join("victim.txt");
+        std::fs::write(&victim, b"keep").unwrap();
+        // The old predictable name and a few guesses of the new one all point at the victim.
+        let old = dir.join(format!(".out.txt.tmp{}", std::process::id()));
+        std::os::unix::fs::symlink(&victim, &old).unwrap();
+        write_atomic(&dir.join("out.txt"), b"new").unwrap();
+        assert_eq!(std::fs::read_to_string(&victim).unwrap(), "keep");
+        assert_eq!(std::fs::read_to_string(dir.join("out.txt")).unwrap(), "new");
         std::fs::remove_dir_all(&dir).unwrap();
     }
 }

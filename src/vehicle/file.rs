@@ -18,6 +18,7 @@ use crate::aero::{
     ParametricSpec, Polar, TablePolar,
 };
 use crate::input::{InputError, Invalid, KeyPath};
+use crate::limits::{self, Bound};
 use crate::rotor::PowerModel;
 
 /// Top level of a vehicle file.
@@ -298,13 +299,11 @@ pub struct DerivativesFile {
 
 /// Read, parse and validate a vehicle file.
 pub fn load_vehicle(path: &Path) -> Result<Vehicle, InputError> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        InputError::file(
-            path,
-            format!("cannot read vehicle file: {e}"),
-            "check the path; demo vehicles are in vehicles/",
-        )
-    })?;
+    let text = crate::input::read_text(
+        path,
+        "vehicle file",
+        "check the path; demo vehicles are in vehicles/",
+    )?;
     parse_vehicle(&text, path)
 }
 
@@ -351,6 +350,8 @@ impl Check<'_> {
             ))
         }
     }
+    // Kept for keys without a sanity bound in `crate::limits`.
+    #[allow(dead_code)]
     fn positive(&self, key: &str, v: f64) -> Result<f64, BuildError> {
         let v = self.finite(key, v)?;
         if v > 0.0 {
@@ -372,6 +373,22 @@ impl Check<'_> {
                 self.path.key(key),
                 format!("must lie in {lo}..{hi}, got {v}"),
                 hint,
+            ))
+        }
+    }
+    /// Finite and inside one of the sanity bounds of [`crate::limits`].
+    fn bounded(&self, key: &str, v: f64, b: Bound) -> Result<f64, BuildError> {
+        let v = self.finite(key, v)?;
+        if b.contains(v) {
+            Ok(v)
+        } else {
+            Err(bad(
+                self.path.key(key),
+                format!("{} is outside {}", b.value(v), b.text()),
+                format!(
+                    "give a value within {} (our sanity bound, see README.md)",
+                    b.text()
+                ),
             ))
         }
     }
@@ -399,6 +416,9 @@ fn unique_names<'a>(
         let p = KeyPath::root().key(what).index(i).key("name");
         if n.trim().is_empty() {
             return Err(bad(p, "name is empty", "give every component a short name"));
+        }
+        if let Some(m) = limits::name_problem(n) {
+            return Err(bad(p, m, limits::NAME_HINT));
         }
         if map.insert(n, i).is_some() {
             return Err(bad(
@@ -489,6 +509,9 @@ fn elevator(
         }
         (0.0, 0.0)
     };
+    if let Some(m) = limits::name_problem(&e.name) {
+        return Err(bad(path.key("name"), m, limits::NAME_HINT));
+    }
     if names.insert(e.name.clone(), out.len()).is_some() {
         return Err(bad(
             path.key("name"),
@@ -508,13 +531,20 @@ fn elevator(
 
 fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
     let root = KeyPath::root();
+    if let Some(m) = limits::name_problem(&f.name) {
+        return Err(bad(root.key("name"), m, limits::NAME_HINT));
+    }
     let mp = root.key("mass");
     let c = Check { path: &mp };
-    let mass_kg = c.positive("mass_kg", f.mass.mass_kg)?;
-    let inertia = c.positive("pitch_inertia_kg_m2", f.mass.pitch_inertia_kg_m2)?;
+    let mass_kg = c.bounded("mass_kg", f.mass.mass_kg, limits::MASS_KG)?;
+    let inertia = c.bounded(
+        "pitch_inertia_kg_m2",
+        f.mass.pitch_inertia_kg_m2,
+        limits::PITCH_INERTIA_KG_M2,
+    )?;
     let cg = Point {
-        x_m: c.finite("cg_x_m", f.mass.cg_x_m)?,
-        z_m: c.finite("cg_z_m", f.mass.cg_z_m)?,
+        x_m: c.bounded("cg_x_m", f.mass.cg_x_m, limits::POSITION_M)?,
+        z_m: c.bounded("cg_z_m", f.mass.cg_z_m, limits::POSITION_M)?,
     };
     if f.surface.is_empty() && f.derivatives.is_none() {
         return Err(bad(
@@ -541,15 +571,15 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
         let hint = "tilt is 0 deg in cruise and 90 deg in hover; keep limits within -30..120";
         c.range("min_deg", a.min_deg, -30.0, 120.0, hint)?;
         c.range("max_deg", a.max_deg, -30.0, 120.0, hint)?;
-        c.positive("rate_deg_s", a.rate_deg_s)?;
+        c.bounded("rate_deg_s", a.rate_deg_s, limits::RATE_DEG_S)?;
         actuators.push(TiltActuator {
             name: a.name.clone(),
             min_rad: a.min_deg.to_radians(),
             max_rad: a.max_deg.to_radians(),
             rate_rad_s: a.rate_deg_s.to_radians(),
             pivot: Point {
-                x_m: c.finite("pivot_x_m", a.pivot_x_m)?,
-                z_m: c.finite("pivot_z_m", a.pivot_z_m)?,
+                x_m: c.bounded("pivot_x_m", a.pivot_x_m, limits::POSITION_M)?,
+                z_m: c.bounded("pivot_z_m", a.pivot_z_m, limits::POSITION_M)?,
             },
         });
     }
@@ -560,10 +590,14 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
     for (i, r) in f.rotor.iter().enumerate() {
         let p = root.key("rotor").index(i);
         let c = Check { path: &p };
-        if r.count == 0 {
+        if r.count == 0 || r.count > limits::MAX_ROTOR_COUNT {
             return Err(bad(
                 p.key("count"),
-                "count must be at least 1",
+                format!(
+                    "count must lie in 1..{}, got {}",
+                    limits::MAX_ROTOR_COUNT,
+                    r.count
+                ),
                 "give the number of identical rotors in the group",
             ));
         }
@@ -604,10 +638,10 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
         rotors.push(RotorGroup {
             name: r.name.clone(),
             count: r.count,
-            radius_m: c.positive("radius_m", r.radius_m)?,
+            radius_m: c.bounded("radius_m", r.radius_m, limits::LENGTH_M)?,
             position: Point {
-                x_m: c.finite("x_m", r.x_m)?,
-                z_m: c.finite("z_m", r.z_m)?,
+                x_m: c.bounded("x_m", r.x_m, limits::POSITION_M)?,
+                z_m: c.bounded("z_m", r.z_m, limits::POSITION_M)?,
             },
             mounting_rad: c
                 .range(
@@ -619,8 +653,8 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
                 )?
                 .to_radians(),
             actuator,
-            thrust_max_n: c.positive("thrust_max_n", r.thrust_max_n)?,
-            power_max_w: c.positive("power_max_w", r.power_max_w)?,
+            thrust_max_n: c.bounded("thrust_max_n", r.thrust_max_n, limits::THRUST_N)?,
+            power_max_w: c.bounded("power_max_w", r.power_max_w, limits::POWER_W)?,
             power_model,
             thrust_lag_s: r.thrust_lag_s,
             momentum_drag_factor: c.range(
@@ -641,9 +675,9 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
     for (i, s) in f.surface.iter().enumerate() {
         let p = root.key("surface").index(i);
         let c = Check { path: &p };
-        let area = c.positive("area_m2", s.area_m2)?;
-        let span = c.positive("span_m", s.span_m)?;
-        let chord = c.positive("chord_m", s.chord_m)?;
+        let area = c.bounded("area_m2", s.area_m2, limits::AREA_M2)?;
+        let span = c.bounded("span_m", s.span_m, limits::LENGTH_M)?;
+        let chord = c.bounded("chord_m", s.chord_m, limits::LENGTH_M)?;
         let ar = span * span / area;
         if !(0.05..=60.0).contains(&ar) {
             return Err(bad(
@@ -746,8 +780,8 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
             span_m: span,
             chord_m: chord,
             position: Point {
-                x_m: c.finite("x_m", s.x_m)?,
-                z_m: c.finite("z_m", s.z_m)?,
+                x_m: c.bounded("x_m", s.x_m, limits::POSITION_M)?,
+                z_m: c.bounded("z_m", s.z_m, limits::POSITION_M)?,
             },
             incidence_rad: c
                 .range(
@@ -777,10 +811,14 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
             let p = root.key("reference");
             let c = Check { path: &p };
             Reference {
-                area_m2: c.positive("area_m2", r.area_m2)?,
-                chord_m: c.positive("chord_m", r.chord_m)?,
-                span_m: c.positive("span_m", r.span_m)?,
-                leading_edge_x_m: c.finite("leading_edge_x_m", r.leading_edge_x_m)?,
+                area_m2: c.bounded("area_m2", r.area_m2, limits::AREA_M2)?,
+                chord_m: c.bounded("chord_m", r.chord_m, limits::LENGTH_M)?,
+                span_m: c.bounded("span_m", r.span_m, limits::LENGTH_M)?,
+                leading_edge_x_m: c.bounded(
+                    "leading_edge_x_m",
+                    r.leading_edge_x_m,
+                    limits::POSITION_M,
+                )?,
             }
         }
         None => default_reference(&surfaces, derivatives.as_ref(), cg),
@@ -924,7 +962,7 @@ fn build_derivatives(
         ("cm_alphadot_per_rad", d.cm_alphadot_per_rad),
         ("cm_elevator_per_rad", d.cm_elevator_per_rad),
     ] {
-        c.finite(k, v)?;
+        c.bounded(k, v, limits::DERIVATIVE_PER_RAD)?;
     }
     let stall_hint = "stall angles are in degrees, 0..90 (negative stall as a negative number)";
     let sp = c.range("stall_pos_deg", d.stall_pos_deg, 0.0, 90.0, stall_hint)?;
@@ -947,11 +985,11 @@ fn build_derivatives(
         None => None,
     };
     Ok(DerivativeModel {
-        area_m2: c.positive("area_m2", d.area_m2)?,
-        chord_m: c.positive("chord_m", d.chord_m)?,
+        area_m2: c.bounded("area_m2", d.area_m2, limits::AREA_M2)?,
+        chord_m: c.bounded("chord_m", d.chord_m, limits::LENGTH_M)?,
         position: Point {
-            x_m: c.finite("x_m", d.x_m.unwrap_or(cg.x_m))?,
-            z_m: c.finite("z_m", d.z_m.unwrap_or(cg.z_m))?,
+            x_m: c.bounded("x_m", d.x_m.unwrap_or(cg.x_m), limits::POSITION_M)?,
+            z_m: c.bounded("z_m", d.z_m.unwrap_or(cg.z_m), limits::POSITION_M)?,
         },
         cl0: d.cl0,
         cl_alpha: d.cl_alpha_per_rad,
@@ -1069,20 +1107,28 @@ fn build_polar(
         }
         PolarFile::Table { file } => {
             let csv_path = dir.join(file);
-            load_table(&csv_path).map(Polar::Table)
+            load_table(&csv_path, &p.key("file")).map(Polar::Table)
         }
     }
 }
 
-/// Read a tabulated polar CSV (`alpha_deg, cl, cd, cm`, `#` comment lines allowed).
-fn load_table(path: &Path) -> Result<TablePolar, BuildError> {
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        BuildError::Table(InputError::file(
-            path,
-            format!("cannot read polar table: {e}"),
-            "the table file is found relative to the vehicle file",
-        ))
+/// Read a tabulated polar CSV (`alpha_deg, cl, cd, cm`, `#` comment lines allowed); a file
+/// that cannot be read is reported on the vehicle file's `file =` line (`key`).
+fn load_table(path: &Path, key: &KeyPath) -> Result<TablePolar, BuildError> {
+    let text = crate::input::read_text(
+        path,
+        "polar table",
+        "the table file is found relative to the vehicle file",
+    )
+    .map_err(|e| match e.line {
+        Some(_) => BuildError::Table(e),
+        None => bad(
+            key.clone(),
+            format!("{}: {}", path.display(), e.message),
+            e.hint,
+        ),
     })?;
+    let mut header_line = 1;
     let mut alpha = Vec::new();
     let mut cl = Vec::new();
     let mut cd = Vec::new();
@@ -1096,12 +1142,16 @@ fn load_table(path: &Path) -> Result<TablePolar, BuildError> {
         }
         if !header_seen {
             header_seen = true;
+            header_line = ln + 1;
             let cols: Vec<&str> = line.split(',').map(str::trim).collect();
             if cols != ["alpha_deg", "cl", "cd", "cm"] {
                 return Err(BuildError::Table(InputError {
                     file: path.to_path_buf(),
                     line: Some(ln + 1),
-                    message: format!("header is '{line}'"),
+                    message: match crate::input::excerpt(path, "csv", line) {
+                        Some(x) => format!("header is '{x}'"),
+                        None => "the first line is not the header alpha_deg,cl,cd,cm".into(),
+                    },
                     hint: "the first non-comment line must be: alpha_deg,cl,cd,cm".into(),
                 }));
             }
@@ -1109,7 +1159,11 @@ fn load_table(path: &Path) -> Result<TablePolar, BuildError> {
         }
         let vals: Result<Vec<f64>, _> = line.split(',').map(|s| s.trim().parse::<f64>()).collect();
         match vals {
-            Ok(v) if v.len() == 4 && v.iter().all(|x| x.is_finite()) => {
+            Ok(v)
+                if v.len() == 4
+                    && v.iter().all(|x| x.is_finite())
+                    && v[1..].iter().all(|x| x.abs() <= limits::POLAR_COEFFICIENT) =>
+            {
                 alpha.push(v[0]);
                 cl.push(v[1]);
                 cd.push(v[2]);
@@ -1120,19 +1174,34 @@ fn load_table(path: &Path) -> Result<TablePolar, BuildError> {
                 return Err(BuildError::Table(InputError {
                     file: path.to_path_buf(),
                     line: Some(ln + 1),
-                    message: format!("row '{line}' is not four finite numbers"),
-                    hint: "each row is alpha_deg,cl,cd,cm as decimal numbers".into(),
+                    message: format!(
+                        "row{} is not four finite numbers with coefficients within +-{}",
+                        crate::input::excerpt(path, "csv", line)
+                            .map_or(String::new(), |x| format!(" '{x}'")),
+                        limits::POLAR_COEFFICIENT
+                    ),
+                    hint: format!(
+                        "each row is alpha_deg,cl,cd,cm as decimal numbers; |cl|, |cd|, |cm| <= {} is our sanity bound",
+                        limits::POLAR_COEFFICIENT
+                    ),
                 }))
             }
         }
     }
     TablePolar::new(&alpha, &cl, &cd, &cm).map_err(|e| {
         let row = e.row();
+        let text = e.to_string();
+        // One hint: the polar's own when it gives one.
+        let (message, hint) = match text.split_once("; hint: ") {
+            Some((m, h)) => (m.to_string(), h.to_string()),
+            None => (text, "rows run from alpha_deg = -180 to 180, strictly increasing, with equal values at both ends".into()),
+        };
         BuildError::Table(InputError {
             file: path.to_path_buf(),
-            line: row.and_then(|r| lines.get(r).copied()),
-            message: e.to_string(),
-            hint: "rows run from alpha_deg = -180 to 180, strictly increasing, with equal values at both ends".into(),
+            // A problem of the whole table (too few rows) points at its header.
+            line: Some(row.and_then(|r| lines.get(r).copied()).unwrap_or(header_line)),
+            message,
+            hint,
         })
     })
 }

@@ -6,6 +6,8 @@ mod atmosphere_checks;
 mod corridor_checks;
 mod dynamics_checks;
 mod flight_checks;
+mod hardening_checks;
+mod mutation_checks;
 mod report_checks;
 mod rotor_checks;
 mod trim_checks;

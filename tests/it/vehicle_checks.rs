@@ -168,7 +168,7 @@ fn non_physical_values_are_refused_with_file_line_and_hint() {
     let g = good();
     refused(
         &swap(&g, "mass_kg = 25.0", "mass_kg = 0.0"),
-        &["mass_kg", "greater than zero"],
+        &["mass_kg", "outside 0.01..100000 kg"],
     );
     refused(&swap(&g, "mass_kg = 25.0", "mass_kg = -3.0"), &["mass_kg"]);
     refused(&swap(&g, "area_m2 = 1.35", "area_m2 = -1.35"), &["area_m2"]);
