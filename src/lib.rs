@@ -5,12 +5,13 @@
 
 pub mod aero;
 pub mod atmosphere;
+pub mod bands;
+pub mod control;
 pub mod corridor;
 pub mod dynamics;
 pub mod flight;
 pub mod input;
 pub mod linear;
-pub mod loops;
 pub mod margins;
 pub mod output;
 pub mod rotor;

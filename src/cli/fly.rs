@@ -66,9 +66,12 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
     bar.set_prefix("trimming");
     bar.set_message("speeds");
     let sweep = run_sweep(&sc.vehicle, &atm, &sweep_settings, &|| bar.inc(1));
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &schedule, &settings.gains)
-            .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &schedule,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
     bar.set_prefix("flying");
     bar.set_message("% of the flight");
     bar.set_length(100);

@@ -144,7 +144,7 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         schedule: sc.schedule.clone(),
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
-        gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+        gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
     };
@@ -198,11 +198,10 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         b.finish_and_clear();
         &power_sweep
     };
-    let flight = FeedforwardTable::from_sweep(
+    let flight = FeedforwardTable::from_points(
         &sc.vehicle,
-        &ff_sweep.points,
+        hoverline::sweep::trim_points(&sc.vehicle, &ff_sweep.points),
         &sc.schedule,
-        &flight_settings.gains,
     )
     .map_err(|e| e.to_string())
     .and_then(|table| {

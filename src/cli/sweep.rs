@@ -39,7 +39,7 @@ pub fn run(a: SweepArgs) -> Result<(), CliError> {
         schedule: sc.schedule.clone(),
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
-        gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+        gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
     };

@@ -18,8 +18,8 @@ use super::sim::{Run, Sample};
 use super::table::FeedforwardTable;
 use super::{FlightSettings, Manoeuvre, Reference};
 use crate::atmosphere::Atmosphere;
+use crate::bands::Band;
 use crate::dynamics::{evaluate, Evaluation, Wind};
-use crate::sweep::Band;
 use crate::vehicle::Vehicle;
 
 /// Tilt within this of its final scheduled value ends the transition (rad).
@@ -545,7 +545,7 @@ pub fn summarise(
                         _ => vec![],
                     })
                     .collect();
-                let bands = crate::sweep::bands_of(&speeds, &flags);
+                let bands = crate::bands::bands_of(&speeds, &flags);
                 let mut agree = 0usize;
                 let mut count = 0usize;
                 for k in 0..n {

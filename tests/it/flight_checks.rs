@@ -5,13 +5,13 @@
 use std::path::{Path, PathBuf};
 
 use hoverline::atmosphere::{isa, G0_MPS2};
+use hoverline::control::loops::{closed_loop, frequency_margins, loop_margins, Siso};
 use hoverline::dynamics::{Controls, State};
 use hoverline::flight::wind::{discrete_gust, full_gust};
 use hoverline::flight::{
     fly_open_loop, fly_perturbed, FeedforwardTable, FlightSettings, Manoeuvre,
 };
 use hoverline::linear::{linearise, modes};
-use hoverline::loops::{closed_loop, frequency_margins, loop_margins, Siso};
 use hoverline::scenario::{
     load_scenario, FlightFile, GustDirection, GustFile, GustShape, TransitionFile,
 };
@@ -224,9 +224,12 @@ fn surveyor_table(
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let settings = settings_with(f);
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &sc.schedule, &settings.gains)
-            .unwrap();
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
     (sc.vehicle, atm, table, settings)
 }
 
@@ -537,8 +540,12 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let s = FlightSettings::from_scenario(&sc).unwrap();
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &sc.schedule, &s.gains).unwrap();
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
     let mut checked = 0;
     for p in table.points.iter().filter(|p| p.trim.trimmed) {
         let lin = p.trim.linear.as_ref().unwrap();

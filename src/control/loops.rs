@@ -1,4 +1,4 @@
-//! Loop margins of the flight's feedback law (`flight::law`) closed around the linear model of
+//! Loop margins of the flight's feedback law (`control::law`) closed around the linear model of
 //! a trim point: each loop broken at its actuator, one at a time, all others closed, as
 //! MIL-F-9490D asks of flight-control systems (gain and phase margin at each actuator input).
 //!
@@ -28,8 +28,8 @@
 use nalgebra::{Complex, DMatrix, DVector};
 use serde::Serialize;
 
+use super::law::{allocation, feedback_inputs, law, FeedbackGains, LawInput};
 use crate::dynamics::{Controls, State};
-use crate::flight::law::{allocation, feedback_inputs, law, FeedbackGains, LawInput};
 use crate::linear::LinearModel;
 use crate::vehicle::Vehicle;
 
@@ -286,7 +286,7 @@ pub fn closed_loop(
     let nt = v.rotors.len();
     let ne = v.elevators.len();
     // The law handles at most MAX_INPUTS inputs; further ones are left out of the analysis.
-    let m = feedback_inputs(v).min(crate::flight::law::MAX_INPUTS);
+    let m = feedback_inputs(v).min(super::law::MAX_INPUTS);
     let n = 7 + nt;
     let (st, ct) = state.theta_rad.sin_cos();
     let (u0, w0) = (state.u_mps, state.w_mps);
@@ -303,9 +303,7 @@ pub fn closed_loop(
         for i in 0..4 {
             a[(i, 7 + g)] = col[i];
         }
-        let tau = v.rotors[g]
-            .thrust_lag_s
-            .max(crate::flight::MIN_THRUST_LAG_S);
+        let tau = v.rotors[g].thrust_lag_s.max(super::MIN_THRUST_LAG_S);
         a[(7 + g, 7 + g)] = -1.0 / tau;
     }
     // Height rate and the path speed (still air).
