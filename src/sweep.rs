@@ -39,6 +39,8 @@ pub struct SweepSettings {
     pub thresholds: Thresholds,
     /// Feedback law whose loop margins are computed at every trimmed point (None: skip).
     pub gains: Option<crate::control::law::FeedbackGains>,
+    /// The loop model around the law (delay, servos) for the loop margins.
+    pub loop_model: crate::control::loops::LoopSettings,
 }
 
 /// Residual of a point.
@@ -147,6 +149,8 @@ pub struct PointReport {
     pub state_names: Vec<String>,
     /// Linear-model input names.
     pub input_names: Vec<String>,
+    /// Unstable open-loop modes and the loop crossover each demands (empty when untrimmed).
+    pub open_loop_demands: Vec<crate::control::loops::OpenLoopDemand>,
     /// Loop margins of the feedback law at each actuator (empty when untrimmed or not asked).
     pub loop_margins: Vec<crate::control::loops::LoopMargin>,
     /// A matrix rows (null when untrimmed).
@@ -204,7 +208,10 @@ pub fn solve_point(
 }
 
 /// Add the loop margins of a feedback law to an assessed, trimmed point, with the reasons
-/// where they fall short of the thresholds (MIL-F-9490D defaults: 6 dB, 45 deg).
+/// where the closed loop falls short: unstable, nominal or with the plant mismatch, or a
+/// symmetric disk margin that does not cover the thresholds' gain and phase margins
+/// (MIL-F-9490D defaults: 6 dB, 45 deg).
+#[allow(clippy::too_many_arguments)]
 pub fn add_loop_margins(
     v: &Vehicle,
     atm: &Atmosphere,
@@ -212,6 +219,7 @@ pub fn add_loop_margins(
     sol: &TrimSolution,
     th: &Thresholds,
     gains: &crate::control::law::FeedbackGains,
+    ls: &crate::control::loops::LoopSettings,
     report: &mut PointReport,
 ) {
     // The point's own linear model (already in the report); re-linearise only if it is absent.
@@ -232,11 +240,17 @@ pub fn add_loop_margins(
         &lin,
         gains,
         req.climb_rad,
+        ls,
     );
-    let short =
-        crate::control::loops::margin_shortfalls(&m, th.gain_margin_db, th.phase_margin_deg);
+    let disk = crate::control::loops::disk_margin_for(th.gain_margin_db, th.phase_margin_deg);
+    let short = crate::control::loops::margin_shortfalls(&m, disk);
     if !short.is_empty() {
-        report.reason_kinds.push("loop margins".into());
+        let kind = if m.iter().any(|x| !x.closed_loop_stable) {
+            "closed loop unstable"
+        } else {
+            "loop margins"
+        };
+        report.reason_kinds.push(kind.into());
         report.reasons.extend(short);
     }
     report.loop_margins = m;
@@ -278,6 +292,7 @@ pub fn assess(
         margins: None,
         state_names: STATE_NAMES.iter().map(|s| s.to_string()).collect(),
         input_names: v.input_names(),
+        open_loop_demands: Vec::new(),
         loop_margins: Vec::new(),
         a_matrix: None,
         b_matrix: None,
@@ -319,6 +334,7 @@ pub fn assess(
     report.reasons = reasons;
     report.reason_kinds = kinds;
     report.margins = Some(m);
+    report.open_loop_demands = crate::control::loops::open_loop_demands(&ms);
     report.modes = ms;
     report.a_matrix = Some(lin.a_rows());
     report.b_matrix = Some(lin.b_rows());
@@ -435,7 +451,7 @@ pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>
         }
     }
     if let Some(t2) = m.time_to_double_s {
-        if t2 < th.time_to_double_s {
+        if th.time_to_double_s > 0.0 && t2 < th.time_to_double_s {
             r.push(format!(
                 "unstable mode doubles in {t2:.2} s (threshold {:.1} s)",
                 th.time_to_double_s
@@ -483,7 +499,16 @@ pub fn run_sweep(
                 let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
                 stalled_run = if stalled { stalled_run + 1 } else { 0 };
                 if let Some(g) = &s.gains {
-                    add_loop_margins(v, atm, &req, &sol, &s.thresholds, g, &mut rep);
+                    add_loop_margins(
+                        v,
+                        atm,
+                        &req,
+                        &sol,
+                        &s.thresholds,
+                        g,
+                        &s.loop_model,
+                        &mut rep,
+                    );
                 }
                 if sol.trimmed() {
                     warm = Some(sol.guess());

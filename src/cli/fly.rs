@@ -57,6 +57,7 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let bar = indicatif::ProgressBar::new(sweep_settings.speeds_mps.len() as u64);
     bar.set_style(

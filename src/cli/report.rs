@@ -147,6 +147,7 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let b = bar(settings.speeds_mps.len() as u64, "1/4 sweep", "speeds");
     let sweep = run_sweep(&sc.vehicle, &atm, &settings, &|| b.inc(1));

@@ -42,6 +42,7 @@ pub fn run(a: SweepArgs) -> Result<(), CliError> {
         gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let bar = indicatif::ProgressBar::new(settings.speeds_mps.len() as u64);
     bar.set_style(

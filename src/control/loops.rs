@@ -1,37 +1,96 @@
-//! Loop margins of the flight's feedback law (`control::law`) closed around the linear model of
-//! a trim point: each loop broken at its actuator, one at a time, all others closed, as
-//! MIL-F-9490D asks of flight-control systems (gain and phase margin at each actuator input).
+//! The feedback law ([`super::law`]) closed around the linear model of a trim point: the
+//! closed-loop stability verdict, the demand the open-loop unstable modes make of the loop,
+//! and the margins of each loop broken at its actuator, one at a time, all others closed, as
+//! MIL-F-9490D asks of flight-control systems.
 //!
-//! The closed loop is assembled from the linear model (A, B in u, w, q, theta), the height and
-//! the two integrators of the law, and a first-order lag per rotor group; elevators act at
-//! once. The law is taken frozen at the point (the frozen-point analysis of gain-scheduled
-//! control): its feedforward and gains do not move with the state, and the pitch offset's
-//! limits and the redistribution at limits are left out (they act only at a limit). Breaking
-//! the loop at actuator `j` gives the state-space loop `(A_j, b_j, c_j)`: the plant and the
-//! other loops in `A_j`, the actuator's input column `b_j`, and the law's command to it `c_j`.
-//! In the negative-feedback convention the loop transfer is `L(s) = -c_j (sI - A_j)^-1 b_j`,
-//! and the closed loop's characteristic polynomial is `det(sI - A_j) (1 + L(s))`.
+//! **Loop model.** States: the linear model (u, w, q, theta), height, the speed and height
+//! integrators of the law, a first-order thrust lag per rotor group, a first-order servo per
+//! elevator (bandwidth `elevator_bandwidth_rad_s`, 0 = positioned at once) and, when the
+//! sensor-plus-computation delay `delay_s` is positive, a first-order Pade approximant
+//! `(1 - s T / 2) / (1 + s T / 2)` of it on each actuator command. The law is taken frozen at
+//! the point (frozen-point analysis of gain-scheduled control): its feedforward and gains do
+//! not move with the state, and the pitch offset's limits and the redistribution at limits are
+//! left out (they act only at a limit). The plant's control columns may be scaled by a
+//! control-effectiveness factor while the law keeps the nominal model (plant mismatch).
 //!
-//! Margins from the frequency response (Bode and Nyquist, as in Franklin, Powell and
-//! Emami-Naeini, Feedback Control of Dynamic Systems, ch. 6):
-//! - gain margin: `-20 log10 |L|` at a phase crossover (phase of L an odd multiple of -180
-//!   deg), the smallest positive one; the smallest negative one is the gain-reduction margin
-//!   (conditionally stable loops, open-loop unstable airframes);
-//! - phase margin: `180 deg + arg L` at a gain crossover (`|L| = 1`), the smallest over all;
-//! - delay margin: the pure delay that uses up the phase margin, `PM / w_c`, the smallest over
-//!   the gain crossovers;
-//! - crossover frequency: `w_c` of the crossover that sets the phase margin.
+//! Breaking the loop at actuator `j` gives the loop `(A_j, b_j, c_j)`; in the negative-feedback
+//! convention `L_j(s) = -c_j (sI - A_j)^-1 b_j`, and `det(sI - A_cl) = det(sI - A_j) (1 + L_j)`
+//! with `A_cl` the whole closed loop. So, once the eigenvalues `mu` of `A_cl` and `lambda_j`
+//! of `A_j` are known (one reduction per loop and point),
+//! `L_j(jw) = prod (jw - mu_i) / prod (jw - lambda_ji) - 1`, evaluated with no allocation.
 //!
-//! The response is sampled on a logarithmic grid from 1e-3 to 1e3 rad/s (100 points per
-//! decade) and each crossing refined by bisection in log frequency to 1e-10 relative.
+//! **Margins** (the closed loop being stable; every margin is null otherwise). They follow the
+//! Nyquist criterion whatever the number of unstable open-loop poles, because they are found
+//! directly as the smallest perturbation that puts a closed-loop root on the imaginary axis:
+//! - gain margins: the smallest gain factor `k > 1` (up, dB > 0) and the largest `0 < k < 1`
+//!   (down, dB < 0) with `1 + k L(jw) = 0`, i.e. `k = -1 / L` where `L(jw)` is real and
+//!   negative (w = 0 included); null where no such gain exists within +-40 dB;
+//! - phase margin: the smallest phase lag `phi` in (0, 360) deg with `1 + e^(-j phi) L(jw) = 0`,
+//!   at the gain crossovers `|L| = 1`: `phi = (arg L + 180 deg) mod 360 deg`;
+//! - delay margin: the smallest pure delay `T` with `1 + e^(-j w T) L(jw) = 0`, `phi / w` at
+//!   each gain crossover;
+//! - symmetric disk margin (Seiler, Packard and Gahinet, "An introduction to disk margins",
+//!   IEEE Control Systems Magazine 40(5), 2020): `alpha = 1 / sup_w |S - T| / 2` with
+//!   `S = 1 / (1 + L)`, `T = L / (1 + L)`; the loop stays stable for every simultaneous gain
+//!   and phase change `f = (1 + delta / 2) / (1 - delta / 2)`, `|delta| < alpha`, that is the
+//!   gains `(2 - alpha) / (2 + alpha) .. (2 + alpha) / (2 - alpha)` and the phases
+//!   `+-2 atan(alpha / 2)`. Strictly proper loops have `alpha <= 2`; at `alpha = 2` the gain
+//!   equivalent is unbounded (null).
+//!
+//! The response is sampled on a logarithmic grid from 1e-3 to 1e3 rad/s, every crossing
+//! refined by bisection in log frequency, and the peak of `|S - T|` refined by golden-section
+//! search around the largest sample and around each closed-loop root's frequency.
 
 use nalgebra::{Complex, DMatrix, DVector};
 use serde::Serialize;
 
 use super::law::{allocation, feedback_inputs, law, FeedbackGains, LawInput};
 use crate::dynamics::{Controls, State};
-use crate::linear::LinearModel;
+use crate::linear::{LinearModel, Mode};
 use crate::vehicle::Vehicle;
+
+/// Lowest frequency of the search (rad/s).
+pub const OMEGA_MIN_RAD_S: f64 = 1e-3;
+/// Highest frequency of the search (rad/s).
+pub const OMEGA_MAX_RAD_S: f64 = 1e3;
+const POINTS_PER_DECADE: usize = 40;
+/// A loop whose gain stays below this everywhere (-40 dB) closes nothing of consequence.
+pub const IN_LOOP_GAIN: f64 = 0.01;
+/// Gain margins beyond this (dB, either way) are reported as null: no gain change a loop can
+/// meet destabilises it (such values come from near-cancelled or near-neutral dynamics).
+pub const MAX_GAIN_MARGIN_DB: f64 = 40.0;
+/// Control-effectiveness factors of the plant-mismatch cases (the law keeps the nominal model).
+pub const MISMATCH_EFFECTIVENESS: [f64; 2] = [0.8, 1.2];
+/// Loop crossover demanded per unit of an unstable root (common practice, no source).
+pub const CROSSOVER_PER_UNSTABLE_ROOT: f64 = 3.0;
+
+/// What the loop model adds to the linear model and the law.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct LoopSettings {
+    /// Total sensor-plus-computation delay on every actuator command (s); 0 leaves it out.
+    pub delay_s: f64,
+    /// Bandwidth of the elevator servos (rad/s); 0 positions them at once.
+    pub elevator_bandwidth_rad_s: f64,
+    /// Factor on the plant's control effectiveness (1 = the model the law was built on).
+    pub effectiveness: f64,
+}
+
+impl Default for LoopSettings {
+    fn default() -> Self {
+        LoopSettings::from_file(&crate::scenario::FlightFile::default())
+    }
+}
+
+impl LoopSettings {
+    /// The loop model of a scenario's `[flight]` table, nominal effectiveness.
+    pub fn from_file(f: &crate::scenario::FlightFile) -> LoopSettings {
+        LoopSettings {
+            delay_s: f.loop_delay_s,
+            elevator_bandwidth_rad_s: f.elevator_bandwidth_rad_s,
+            effectiveness: 1.0,
+        }
+    }
+}
 
 /// Margins of one loop broken at one actuator.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -40,58 +99,123 @@ pub struct LoopMargin {
     pub loop_name: String,
     /// The actuator where the loop is broken (`thrust <group>`, `elevator <name>`).
     pub actuator: String,
-    /// Whether the law moves this actuator at this point at all.
+    /// Whether the law closes a loop of consequence through this actuator (peak gain at
+    /// least -40 dB); margins are null otherwise.
     pub in_loop: bool,
-    /// Gain increase to instability (dB, > 0).
+    /// Gain increase to instability (dB, > 0); null where no gain increase destabilises.
     pub gain_margin_db: Option<f64>,
-    /// Gain decrease to instability (dB, < 0), for conditionally stable loops.
+    /// Gain decrease to instability (dB, < 0); null where no gain decrease destabilises.
     pub gain_reduction_margin_db: Option<f64>,
-    /// Phase margin (deg).
+    /// Smallest phase lag that destabilises (deg, 0..360).
     pub phase_margin_deg: Option<f64>,
-    /// Delay margin (s).
+    /// Smallest pure delay that destabilises (s).
     pub delay_margin_s: Option<f64>,
     /// Gain-crossover frequency of the phase margin (rad/s).
     pub crossover_rad_s: Option<f64>,
     /// Phase-crossover frequency of the gain margin (rad/s).
     pub phase_crossover_rad_s: Option<f64>,
+    /// Symmetric disk margin alpha (-).
+    pub disk_margin: Option<f64>,
+    /// Gain equivalent of the disk margin, +- (dB); null where unbounded.
+    pub disk_gain_margin_db: Option<f64>,
+    /// Phase equivalent of the disk margin, +- (deg).
+    pub disk_phase_margin_deg: Option<f64>,
+    /// Frequency where the disk margin is set (rad/s; null at infinite frequency).
+    pub disk_frequency_rad_s: Option<f64>,
     /// Whether the whole closed loop is stable at this point.
     pub closed_loop_stable: bool,
+    /// Smallest disk margin over the nominal plant and the mismatch cases (0 where a case's
+    /// closed loop is unstable).
+    pub worst_disk_margin: Option<f64>,
+    /// Control-effectiveness factor of the worst case.
+    pub worst_effectiveness: f64,
+    /// Whether the closed loop is stable in every mismatch case.
+    pub mismatch_stable: bool,
+}
+
+/// An unstable open-loop mode and what it demands of the loop.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OpenLoopDemand {
+    /// Mode name.
+    pub mode: String,
+    /// Real part (1/s, > 0).
+    pub real_per_s: f64,
+    /// Time to double amplitude (s).
+    pub time_to_double_s: f64,
+    /// Loop crossover the mode demands, 3 x |root| (rad/s; common practice).
+    pub crossover_demand_rad_s: f64,
+}
+
+/// The unstable open-loop modes of a point with the crossover each demands.
+pub fn open_loop_demands(modes: &[Mode]) -> Vec<OpenLoopDemand> {
+    modes
+        .iter()
+        .filter(|m| m.real_per_s > 0.0)
+        .map(|m| OpenLoopDemand {
+            mode: m.name.clone(),
+            real_per_s: m.real_per_s,
+            time_to_double_s: std::f64::consts::LN_2 / m.real_per_s,
+            crossover_demand_rad_s: CROSSOVER_PER_UNSTABLE_ROOT * m.natural_freq_rad_s,
+        })
+        .collect()
 }
 
 /// Margins of a loop transfer function from its frequency response.
 #[derive(Debug, Clone, Copy, PartialEq, Default, Serialize)]
 pub struct FrequencyMargins {
-    /// Smallest positive gain margin (dB).
+    /// Smallest destabilising gain increase (dB).
     pub gain_margin_db: Option<f64>,
-    /// Gain-reduction margin, the negative margin nearest zero (dB).
+    /// Smallest destabilising gain decrease (dB, < 0).
     pub gain_reduction_margin_db: Option<f64>,
-    /// Smallest phase margin (deg).
+    /// Smallest destabilising phase lag (deg).
     pub phase_margin_deg: Option<f64>,
-    /// Smallest delay margin over the gain crossovers with positive phase margin (s).
+    /// Smallest destabilising delay (s).
     pub delay_margin_s: Option<f64>,
     /// Gain-crossover frequency of the phase margin (rad/s).
     pub crossover_rad_s: Option<f64>,
     /// Phase-crossover frequency of the gain margin (rad/s).
     pub phase_crossover_rad_s: Option<f64>,
+    /// Symmetric disk margin (-).
+    pub disk_margin: Option<f64>,
+    /// Frequency of the disk margin (rad/s; null at infinite frequency).
+    pub disk_frequency_rad_s: Option<f64>,
+    /// Largest |L| over the samples (-).
+    pub peak_gain: f64,
 }
 
-/// Lowest frequency of the search (rad/s).
-pub const OMEGA_MIN_RAD_S: f64 = 1e-3;
-/// Highest frequency of the search (rad/s).
-pub const OMEGA_MAX_RAD_S: f64 = 1e3;
-const POINTS_PER_DECADE: usize = 100;
+impl FrequencyMargins {
+    /// Gain equivalent of the disk margin (dB), null where unbounded.
+    pub fn disk_gain_margin_db(&self) -> Option<f64> {
+        self.disk_margin.and_then(disk_gain_db)
+    }
 
-fn wrap_deg(a: f64) -> f64 {
-    let r = (a + 180.0).rem_euclid(360.0) - 180.0;
-    if r <= -180.0 {
-        r + 360.0
-    } else {
-        r
+    /// Phase equivalent of the disk margin (deg).
+    pub fn disk_phase_margin_deg(&self) -> Option<f64> {
+        self.disk_margin.map(disk_phase_deg)
     }
 }
 
+/// Gain equivalent `20 log10((2 + a) / (2 - a))` of a symmetric disk margin `a` (dB).
+pub fn disk_gain_db(a: f64) -> Option<f64> {
+    (a < 2.0 - 1e-12).then(|| 20.0 * ((2.0 + a) / (2.0 - a)).log10())
+}
+
+/// Phase equivalent `2 atan(a / 2)` of a symmetric disk margin `a` (deg).
+pub fn disk_phase_deg(a: f64) -> f64 {
+    2.0 * (0.5 * a).atan().to_degrees()
+}
+
+/// The smallest symmetric disk margin that covers both a gain margin (dB) and a phase margin
+/// (deg): the disk's gain and phase equivalents then reach both.
+pub fn disk_margin_for(gain_margin_db: f64, phase_margin_deg: f64) -> f64 {
+    let g = 10f64.powf(gain_margin_db / 20.0);
+    let from_gain = 2.0 * (g - 1.0) / (g + 1.0);
+    let from_phase = 2.0 * (0.5 * phase_margin_deg.to_radians()).tan();
+    from_gain.max(from_phase)
+}
+
 /// Bisection in log frequency for a sign change of `f` between `lo` and `hi`.
-fn refine(f: &dyn Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
+fn refine<F: Fn(f64) -> f64>(f: F, mut lo: f64, mut hi: f64) -> f64 {
     let mut flo = f(lo);
     for _ in 0..80 {
         let mid = (lo * hi).sqrt();
@@ -102,19 +226,76 @@ fn refine(f: &dyn Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
         } else {
             hi = mid;
         }
-        if hi / lo - 1.0 < 1e-10 {
+        if hi / lo - 1.0 < 1e-12 {
             break;
         }
     }
     (lo * hi).sqrt()
 }
 
-/// Margins of the loop whose frequency response is `l(w)` (negative-feedback convention),
-/// searched between `w_lo` and `w_hi` (rad/s, 0 < w_lo < w_hi).
-pub fn frequency_margins(
-    l: &dyn Fn(f64) -> Complex<f64>,
+/// Golden-section search for the largest `f` in log frequency on `[lo, hi]`: (w, f(w)).
+fn peak<F: Fn(f64) -> f64>(f: F, lo: f64, hi: f64) -> (f64, f64) {
+    let r = 0.5 * (5f64.sqrt() - 1.0);
+    let (mut a, mut b) = (lo.ln(), hi.ln());
+    let mut c = b - r * (b - a);
+    let mut d = a + r * (b - a);
+    let (mut fc, mut fd) = (f(c.exp()), f(d.exp()));
+    for _ in 0..60 {
+        if b - a < 1e-9 {
+            break;
+        }
+        if fc > fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - r * (b - a);
+            fc = f(c.exp());
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + r * (b - a);
+            fd = f(d.exp());
+        }
+    }
+    if fc > fd {
+        (c.exp(), fc)
+    } else {
+        (d.exp(), fd)
+    }
+}
+
+fn finite(z: Complex<f64>) -> bool {
+    z.re.is_finite() && z.im.is_finite()
+}
+
+/// `|S - T| / 2 = |1 - L| / (2 |1 + L|)`.
+fn disk_value(z: Complex<f64>) -> f64 {
+    let d = (Complex::new(1.0, 0.0) + z).norm();
+    if d == 0.0 {
+        f64::INFINITY
+    } else {
+        (Complex::new(1.0, 0.0) - z).norm() / (2.0 * d)
+    }
+}
+
+/// Margins of the loop whose frequency response is `l(w)` (negative-feedback convention,
+/// closed loop stable), searched between `w_lo` and `w_hi` (rad/s, 0 < w_lo < w_hi).
+pub fn frequency_margins<F: Fn(f64) -> Complex<f64>>(
+    l: &F,
     w_lo: f64,
     w_hi: f64,
+) -> FrequencyMargins {
+    frequency_margins_with(l, w_lo, w_hi, &[])
+}
+
+/// As [`frequency_margins`], with extra frequencies (rad/s) where `|S - T|` may peak (the
+/// closed-loop roots' frequencies).
+pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
+    l: &F,
+    w_lo: f64,
+    w_hi: f64,
+    hints: &[f64],
 ) -> FrequencyMargins {
     let mut out = FrequencyMargins::default();
     if !(w_lo > 0.0 && w_hi > w_lo && w_lo.is_finite() && w_hi.is_finite()) {
@@ -122,77 +303,124 @@ pub fn frequency_margins(
     }
     let decades = (w_hi / w_lo).log10();
     let n = ((decades * POINTS_PER_DECADE as f64).ceil() as usize).max(2);
-    let ws: Vec<f64> = (0..=n)
-        .map(|k| w_lo * 10f64.powf(decades * k as f64 / n as f64))
-        .collect();
-    let resp: Vec<Complex<f64>> = ws.iter().map(|&w| l(w)).collect();
-    if resp.iter().any(|z| !z.re.is_finite() || !z.im.is_finite()) {
-        return out;
-    }
-    // Unwrapped phase (deg) along the grid.
-    let mut phase = Vec::with_capacity(resp.len());
-    let mut prev = resp[0].arg().to_degrees();
-    phase.push(prev);
-    for z in &resp[1..] {
-        let p = prev + wrap_deg(z.arg().to_degrees() - prev);
-        phase.push(p);
-        prev = p;
-    }
-    let gain_db = |w: f64| 20.0 * l(w).norm().log10();
-    // Gain crossovers.
-    let mut pm: Option<(f64, f64)> = None;
+    let step = (w_hi / w_lo).powf(1.0 / n as f64);
+    let mut gm_up: Option<(f64, f64)> = None;
+    let mut gm_down: Option<f64> = None;
+    let mut lag: Option<(f64, f64)> = None;
     let mut delay: Option<f64> = None;
-    for k in 0..n {
-        let (a, b) = (resp[k].norm(), resp[k + 1].norm());
-        if (a - 1.0) * (b - 1.0) <= 0.0 && a != b {
-            let w = refine(&|w| l(w).norm() - 1.0, ws[k], ws[k + 1]);
-            let m = wrap_deg(180.0 + l(w).arg().to_degrees());
-            if pm.is_none_or(|(p, _)| m < p) {
-                pm = Some((m, w));
+    // Disk peak: (value, frequency); the rolled-off limit w -> infinity first.
+    let mut disk: (f64, Option<f64>) = (0.0, None);
+    let mut gain = |k: f64, w: f64| {
+        if !(k > 0.0 && k.is_finite()) {
+            return;
+        }
+        let db = 20.0 * k.log10();
+        if db.abs() > MAX_GAIN_MARGIN_DB {
+            return;
+        }
+        if db > 0.0 {
+            if gm_up.is_none_or(|(x, _)| db < x) {
+                gm_up = Some((db, w));
             }
-            if m > 0.0 {
-                let d = m.to_radians() / w;
+        } else if db < 0.0 && gm_down.is_none_or(|x| db > x) {
+            gm_down = Some(db);
+        }
+    };
+    // w = 0: a real L(0) < 0 is a gain crossing.
+    let z0 = l(0.0);
+    if finite(z0) {
+        if z0.im.abs() <= 1e-9 * z0.norm() && z0.re < 0.0 {
+            gain(-1.0 / z0.re, 0.0);
+        }
+        disk = (disk_value(z0), Some(0.0));
+    }
+    let disk_at = |w: f64, z: Complex<f64>, disk: &mut (f64, Option<f64>)| {
+        let d = disk_value(z);
+        if d > disk.0 {
+            *disk = (d, Some(w));
+        }
+    };
+    let mut w0 = w_lo;
+    let mut za = l(w0);
+    let mut peak_gain = if finite(za) { za.norm() } else { 0.0 };
+    if finite(za) {
+        disk_at(w0, za, &mut disk);
+    }
+    for i in 1..=n {
+        let w1 = if i == n {
+            w_hi
+        } else {
+            w_lo * step.powi(i as i32)
+        };
+        let zb = l(w1);
+        if !finite(zb) || !finite(za) {
+            w0 = w1;
+            za = zb;
+            continue;
+        }
+        peak_gain = peak_gain.max(zb.norm());
+        disk_at(w1, zb, &mut disk);
+        let (ga, gb) = (za.norm() - 1.0, zb.norm() - 1.0);
+        if ga * gb <= 0.0 && ga != gb {
+            let wc = refine(|w| l(w).norm() - 1.0, w0, w1);
+            let zc = l(wc);
+            if (zc.norm() - 1.0).abs() < 1e-6 {
+                let phi = (zc.arg() + std::f64::consts::PI).rem_euclid(2.0 * std::f64::consts::PI);
+                let phi_deg = phi.to_degrees();
+                if lag.is_none_or(|(p, _)| phi_deg < p) {
+                    lag = Some((phi_deg, wc));
+                }
+                let d = phi / wc;
                 delay = Some(delay.map_or(d, |x: f64| x.min(d)));
             }
         }
-    }
-    // Phase crossovers: unwrapped phase through -180 + 360 k.
-    let mut gm_up: Option<(f64, f64)> = None;
-    let mut gm_down: Option<f64> = None;
-    for k in 0..n {
-        let (p0, p1) = (phase[k], phase[k + 1]);
-        let lo = p0.min(p1);
-        let hi = p0.max(p1);
-        let first = ((lo + 180.0) / 360.0).ceil() as i64;
-        let last = ((hi + 180.0) / 360.0).floor() as i64;
-        for m in first..=last {
-            let target = -180.0 + 360.0 * m as f64;
-            if (p0 - target) * (p1 - target) > 0.0 || p0 == p1 {
-                continue;
-            }
-            // Refine on the continuous phase near this segment.
-            let base = p0;
-            let f = |w: f64| {
-                let raw = l(w).arg().to_degrees();
-                base + wrap_deg(raw - base) - target
-            };
-            let w = refine(&f, ws[k], ws[k + 1]);
-            let g = -gain_db(w);
-            if g > 0.0 {
-                if gm_up.is_none_or(|(x, _)| g < x) {
-                    gm_up = Some((g, w));
-                }
-            } else if gm_down.is_none_or(|x| g > x) {
-                gm_down = Some(g);
+        if za.im * zb.im <= 0.0 && za.im != zb.im {
+            let wp = refine(|w| l(w).im, w0, w1);
+            let zp = l(wp);
+            if finite(zp) && zp.re < 0.0 && zp.im.abs() <= 1e-6 * zp.norm() {
+                gain(-1.0 / zp.re, wp);
             }
         }
+        w0 = w1;
+        za = zb;
     }
-    out.phase_margin_deg = pm.map(|p| p.0);
-    out.crossover_rad_s = pm.map(|p| p.1);
-    out.delay_margin_s = delay;
+    // A loop rolled off at the top of the search is taken to L -> 0 beyond it (|S - T|/2 -> 1/2).
+    let top = l(w_hi);
+    if finite(top) && top.norm() < 1e-2 && 0.5 >= disk.0 {
+        disk = (0.5, None);
+    }
+    // Refine the disk peak around the largest sample and around every hint.
+    let dv = |w: f64| {
+        let z = l(w);
+        if finite(z) {
+            disk_value(z)
+        } else {
+            0.0
+        }
+    };
+    let mut centres: Vec<f64> = Vec::new();
+    if let Some(w) = disk.1.filter(|&w| w > 0.0) {
+        centres.push(w);
+    }
+    let mut best = disk;
+    for &w in centres.iter().chain(hints.iter()) {
+        if !(w > w_lo && w < w_hi) {
+            continue;
+        }
+        let (wp, vp) = peak(dv, (w / step).max(w_lo), (w * step).min(w_hi));
+        if vp > best.0 {
+            best = (vp, Some(wp));
+        }
+    }
     out.gain_margin_db = gm_up.map(|g| g.0);
     out.phase_crossover_rad_s = gm_up.map(|g| g.1);
     out.gain_reduction_margin_db = gm_down;
+    out.phase_margin_deg = lag.map(|p| p.0);
+    out.crossover_rad_s = lag.map(|p| p.1);
+    out.delay_margin_s = delay;
+    out.disk_margin = (best.0 > 0.0).then(|| 1.0 / best.0);
+    out.disk_frequency_rad_s = best.1;
+    out.peak_gain = peak_gain;
     out
 }
 
@@ -210,7 +438,7 @@ pub struct Siso {
 }
 
 impl Siso {
-    /// Frequency response at `w_rad_s`.
+    /// Frequency response at `w_rad_s`, by a dense complex LU solve (the reference evaluation).
     pub fn response(&self, w_rad_s: f64) -> Complex<f64> {
         let n = self.a.nrows();
         let m = DMatrix::from_fn(n, n, |i, j| {
@@ -229,14 +457,99 @@ impl Siso {
     }
 }
 
+/// One factor of a characteristic polynomial on the imaginary axis: a real root `r`,
+/// `jw - r`, or a complex pair `a +- jb`, `(a^2 + b^2 - w^2) - j 2 a w`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Factor {
+    pair: bool,
+    re: f64,
+    sq: f64,
+}
+
+impl Factor {
+    fn at(&self, w: f64) -> Complex<f64> {
+        if self.pair {
+            Complex::new(self.sq - w * w, -2.0 * self.re * w)
+        } else {
+            Complex::new(-self.re, w)
+        }
+    }
+}
+
+/// Characteristic polynomial of a matrix as root factors, each complex pair once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Roots {
+    factors: Vec<Factor>,
+    /// The eigenvalues, each complex pair once (imag > 0).
+    pub values: Vec<Complex<f64>>,
+}
+
+impl Roots {
+    /// The eigenvalues of `a` as factors.
+    pub fn of(a: &DMatrix<f64>) -> Roots {
+        let ev = a.clone().complex_eigenvalues();
+        let scale = ev.iter().map(|z| z.norm()).fold(1.0, f64::max);
+        let tol = 1e-12 * scale;
+        let mut factors = Vec::with_capacity(ev.len());
+        let mut values = Vec::with_capacity(ev.len());
+        for z in ev.iter() {
+            if z.im > tol {
+                factors.push(Factor {
+                    pair: true,
+                    re: z.re,
+                    sq: z.norm_sqr(),
+                });
+                values.push(*z);
+            } else if z.im >= -tol {
+                factors.push(Factor {
+                    pair: false,
+                    re: z.re,
+                    sq: 0.0,
+                });
+                values.push(Complex::new(z.re, 0.0));
+            }
+        }
+        Roots { factors, values }
+    }
+
+    /// Whether every root has a real part below `-1e-9` 1/s.
+    pub fn stable(&self) -> bool {
+        self.values.iter().all(|z| z.re < -1e-9)
+    }
+
+    fn at(&self, w: f64) -> Complex<f64> {
+        let mut p = Complex::new(1.0, 0.0);
+        for f in &self.factors {
+            p *= f.at(w);
+        }
+        p
+    }
+}
+
+/// The loop broken at one actuator in pole form: `L(jw) = chi_cl(jw) / chi_j(jw) - 1`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PoleRatio<'a> {
+    /// Roots of the whole closed loop.
+    pub closed: &'a Roots,
+    /// Roots of the loop with actuator `j` broken.
+    pub open: Roots,
+}
+
+impl PoleRatio<'_> {
+    /// Frequency response at `w_rad_s` (no allocation).
+    pub fn response(&self, w_rad_s: f64) -> Complex<f64> {
+        self.closed.at(w_rad_s) / self.open.at(w_rad_s) - 1.0
+    }
+}
+
 /// The closed loop of the law around a trim point, with every actuator's input exposed.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ClosedLoop {
-    /// Open-loop matrix (plant, height, integrators, thrust lags), no law.
+    /// Open-loop matrix (plant, height, integrators, actuators, delays), no law at the breaks.
     pub a_open: DMatrix<f64>,
     /// Input column of each actuator (thrust commands, then elevators).
     pub b: Vec<DVector<f64>>,
-    /// The law's command to each actuator as a row over the states.
+    /// The (delayed) law's command to each actuator as a row over the states.
     pub c: Vec<DVector<f64>>,
     /// Actuator names.
     pub actuators: Vec<String>,
@@ -268,13 +581,50 @@ impl ClosedLoop {
 
     /// Whether every eigenvalue of the closed loop has a negative real part.
     pub fn stable(&self) -> bool {
-        let a = self.a_closed(&vec![1.0; self.b.len()]);
-        a.complex_eigenvalues().iter().all(|l| l.re < -1e-9)
+        Roots::of(&self.a_closed(&vec![1.0; self.b.len()])).stable()
+    }
+
+    /// Margins at every actuator: (closed loop stable, margins per actuator, in loop).
+    pub fn margins(&self) -> (bool, Vec<FrequencyMargins>) {
+        let m = self.b.len();
+        let closed = Roots::of(&self.a_closed(&vec![1.0; m]));
+        let stable = closed.stable();
+        let mut out = vec![FrequencyMargins::default(); m];
+        if !stable {
+            return (false, out);
+        }
+        // Lightly damped closed-loop roots make sharp peaks of |S - T| the grid may miss.
+        let hints: Vec<f64> = closed
+            .values
+            .iter()
+            .filter(|z| z.im > 0.0 && -z.re < 0.5 * z.norm())
+            .map(|z| z.im)
+            .collect();
+        let mut g = vec![1.0; m];
+        for (j, o) in out.iter_mut().enumerate() {
+            if self.c[j].norm() * self.b[j].norm() <= 1e-12 {
+                continue;
+            }
+            g[j] = 0.0;
+            let pr = PoleRatio {
+                closed: &closed,
+                open: Roots::of(&self.a_closed(&g)),
+            };
+            g[j] = 1.0;
+            *o = frequency_margins_with(
+                &|w| pr.response(w),
+                OMEGA_MIN_RAD_S,
+                OMEGA_MAX_RAD_S,
+                &hints,
+            );
+        }
+        (true, out)
     }
 }
 
 /// Assemble the closed loop of the law (`gains`) around the trim point (`state`, `controls`,
-/// `lin`). States: u, w, q, theta, h, speed integral, height integral, thrust of each group.
+/// `lin`) with the loop model `ls`. States: u, w, q, theta, h, speed integral, height
+/// integral, thrust of each group, each elevator servo, each command delay.
 pub fn closed_loop(
     v: &Vehicle,
     state: &State,
@@ -282,12 +632,19 @@ pub fn closed_loop(
     lin: &LinearModel,
     gains: &FeedbackGains,
     climb_rad: f64,
+    ls: &LoopSettings,
 ) -> ClosedLoop {
     let nt = v.rotors.len();
-    let ne = v.elevators.len();
     // The law handles at most MAX_INPUTS inputs; further ones are left out of the analysis.
     let m = feedback_inputs(v).min(super::law::MAX_INPUTS);
-    let n = 7 + nt;
+    let ne = m.saturating_sub(nt);
+    // Values outside the validated range leave the element out rather than poison the model.
+    let servo = ls.elevator_bandwidth_rad_s > 0.0 && ls.elevator_bandwidth_rad_s.is_finite();
+    let delayed = ls.delay_s > 0.0 && ls.delay_s.is_finite();
+    let i_servo = 7 + nt;
+    let i_delay = i_servo + if servo { ne } else { 0 };
+    let n = i_delay + if delayed { m } else { 0 };
+    let f = ls.effectiveness;
     let (st, ct) = state.theta_rad.sin_cos();
     let (u0, w0) = (state.u_mps, state.w_mps);
     let cg = climb_rad.cos().max(0.1);
@@ -297,14 +654,23 @@ pub fn closed_loop(
             a[(i, k)] = lin.a[(i, k)];
         }
     }
-    // Thrust lags feed the plant.
-    for g in 0..nt {
+    // Thrust lags and elevator servos feed the plant.
+    for g in 0..nt.min(m) {
         let col = lin.b.get(g).copied().unwrap_or([0.0; 4]);
         for i in 0..4 {
-            a[(i, 7 + g)] = col[i];
+            a[(i, 7 + g)] = f * col[i];
         }
         let tau = v.rotors[g].thrust_lag_s.max(super::MIN_THRUST_LAG_S);
         a[(7 + g, 7 + g)] = -1.0 / tau;
+    }
+    if servo {
+        for k in 0..ne {
+            let col = lin.b.get(nt + k).copied().unwrap_or([0.0; 4]);
+            for i in 0..4 {
+                a[(i, i_servo + k)] = f * col[i];
+            }
+            a[(i_servo + k, i_servo + k)] = -ls.elevator_bandwidth_rad_s;
+        }
     }
     // Height rate and the path speed (still air).
     let hdot = [st, -ct, 0.0, u0 * ct + w0 * st];
@@ -315,9 +681,9 @@ pub fn closed_loop(
     }
     a[(6, 4)] = -1.0;
     // Law inputs as rows over the states.
-    let row = |f: &dyn Fn(&mut DVector<f64>)| {
+    let row = |fill: &dyn Fn(&mut DVector<f64>)| {
         let mut r = DVector::zeros(n);
-        f(&mut r);
+        fill(&mut r);
         r
     };
     let speed_error = row(&|r| (0..4).for_each(|k| r[k] = -vpath[k]));
@@ -352,13 +718,17 @@ pub fn closed_loop(
             bj[7 + j] = -a[(7 + j, 7 + j)];
             names.push(format!("thrust {}", v.rotors[j].name));
         } else {
-            let col = lin.b.get(j).copied().unwrap_or([0.0; 4]);
-            for i in 0..4 {
-                bj[i] = col[i];
+            if servo {
+                bj[i_servo + j - nt] = ls.elevator_bandwidth_rad_s;
+            } else {
+                let col = lin.b.get(j).copied().unwrap_or([0.0; 4]);
+                for i in 0..4 {
+                    bj[i] = f * col[i];
+                }
             }
             names.push(format!("elevator {}", v.elevators[j - nt].name));
         }
-        let cj = &speed_error * k_speed[j]
+        let law_row = &speed_error * k_speed[j]
             + &speed_integral * k_speed_i[j]
             + &height_error * k_height[j]
             + &height_rate_error * k_height_rate[j]
@@ -366,6 +736,20 @@ pub fn closed_loop(
             + &pitch * k_pitch[j]
             + &pitch_rate * k_rate[j]
             + &own * k_own[j];
+        // The delay: z' = (2/T)(u - z), command -u + 2 z (first-order Pade).
+        let cj = if delayed {
+            let p = 2.0 / ls.delay_s;
+            let iz = i_delay + j;
+            for k in 0..n {
+                a[(iz, k)] += p * law_row[k];
+            }
+            a[(iz, iz)] -= p;
+            let mut r = -law_row;
+            r[iz] += 2.0;
+            r
+        } else {
+            law_row
+        };
         // Which loops drive it: response to 1 m/s, 1 m and 1 deg errors, relative.
         let contrib = [
             ("speed", k_speed[j].abs()),
@@ -382,7 +766,6 @@ pub fn closed_loop(
         b.push(bj);
         c.push(cj);
     }
-    let _ = ne;
     ClosedLoop {
         a_open: a,
         b,
@@ -393,8 +776,9 @@ pub fn closed_loop(
 }
 
 /// Loop margins at every actuator of the law at a trim point, in the order thrust groups then
-/// elevators. `climb_rad` is the trim's flight-path angle (the speed loop holds the speed
-/// along it).
+/// elevators, with the loop model `ls` and the plant-mismatch cases of
+/// [`MISMATCH_EFFECTIVENESS`]. `climb_rad` is the trim's flight-path angle (the speed loop
+/// holds the speed along it).
 pub fn loop_margins(
     v: &Vehicle,
     state: &State,
@@ -402,86 +786,100 @@ pub fn loop_margins(
     lin: &LinearModel,
     gains: &FeedbackGains,
     climb_rad: f64,
+    ls: &LoopSettings,
 ) -> Vec<LoopMargin> {
-    let cl = closed_loop(v, state, controls, lin, gains, climb_rad);
-    let stable = cl.stable();
+    let cl = closed_loop(v, state, controls, lin, gains, climb_rad, ls);
+    let (stable, fm) = cl.margins();
+    let in_loop: Vec<bool> = (0..cl.b.len())
+        .map(|j| {
+            if stable {
+                fm[j].peak_gain >= IN_LOOP_GAIN
+            } else {
+                cl.c[j].norm() * cl.b[j].norm() > 1e-12
+            }
+        })
+        .collect();
+    let mut worst: Vec<(Option<f64>, f64)> = fm
+        .iter()
+        .map(|m| (if stable { m.disk_margin } else { Some(0.0) }, 1.0))
+        .collect();
+    let mut mismatch_stable = true;
+    for &e in &MISMATCH_EFFECTIVENESS {
+        let case = LoopSettings {
+            effectiveness: e * ls.effectiveness,
+            ..*ls
+        };
+        let (ok, mm) = closed_loop(v, state, controls, lin, gains, climb_rad, &case).margins();
+        mismatch_stable &= ok;
+        for (j, w) in worst.iter_mut().enumerate() {
+            let d = if ok { mm[j].disk_margin } else { Some(0.0) };
+            if let Some(d) = d {
+                if w.0.is_none_or(|x| d < x) {
+                    *w = (Some(d), e);
+                }
+            }
+        }
+    }
     (0..cl.b.len())
         .map(|j| {
-            let in_loop = cl.c[j].norm() * cl.b[j].norm() > 1e-12;
-            let fm = if in_loop {
-                cl.broken(j).margins()
+            let on = in_loop[j] && stable;
+            let m = if on {
+                fm[j]
             } else {
                 FrequencyMargins::default()
             };
             LoopMargin {
-                loop_name: if in_loop {
+                loop_name: if in_loop[j] {
                     cl.loop_names[j].clone()
                 } else {
                     String::new()
                 },
                 actuator: cl.actuators[j].clone(),
-                in_loop,
-                gain_margin_db: fm.gain_margin_db,
-                gain_reduction_margin_db: fm.gain_reduction_margin_db,
-                phase_margin_deg: fm.phase_margin_deg,
-                delay_margin_s: if stable { fm.delay_margin_s } else { None },
-                crossover_rad_s: fm.crossover_rad_s,
-                phase_crossover_rad_s: fm.phase_crossover_rad_s,
+                in_loop: in_loop[j],
+                gain_margin_db: m.gain_margin_db,
+                gain_reduction_margin_db: m.gain_reduction_margin_db,
+                phase_margin_deg: m.phase_margin_deg,
+                delay_margin_s: m.delay_margin_s,
+                crossover_rad_s: m.crossover_rad_s,
+                phase_crossover_rad_s: m.phase_crossover_rad_s,
+                disk_margin: m.disk_margin,
+                disk_gain_margin_db: m.disk_gain_margin_db(),
+                disk_phase_margin_deg: m.disk_phase_margin_deg(),
+                disk_frequency_rad_s: m.disk_frequency_rad_s,
                 closed_loop_stable: stable,
+                worst_disk_margin: if in_loop[j] { worst[j].0 } else { None },
+                worst_effectiveness: worst[j].1,
+                mismatch_stable,
             }
         })
         .collect()
 }
 
-/// Reasons a point's loop margins fall short of the thresholds (gain margin in dB, phase
-/// margin in deg), for the unsafe bands; an unstable closed loop is a reason by itself.
-pub fn margin_shortfalls(
-    m: &[LoopMargin],
-    gain_margin_db: f64,
-    phase_margin_deg: f64,
-) -> Vec<String> {
+/// Reasons a point's loops fall short (the verdict): an unstable closed loop, nominal or in a
+/// mismatch case, and a symmetric disk margin below `disk_margin` at any actuator in the loop.
+pub fn margin_shortfalls(m: &[LoopMargin], disk_margin: f64) -> Vec<String> {
     let mut out = Vec::new();
     if m.iter().any(|x| !x.closed_loop_stable) {
         out.push("closed loop unstable".to_string());
+        return out;
+    }
+    if let Some(x) = m.iter().find(|x| x.worst_disk_margin == Some(0.0)) {
+        out.push(format!(
+            "closed loop unstable with control effectiveness x{}",
+            x.worst_effectiveness
+        ));
     }
     for x in m.iter().filter(|x| x.in_loop) {
-        if let Some(g) = x.gain_margin_db {
-            if g < gain_margin_db {
+        if let Some(a) = x.disk_margin {
+            if a < disk_margin {
                 out.push(format!(
-                    "gain margin at {} {g:.1} dB (threshold {gain_margin_db:.1} dB)",
-                    x.actuator
-                ));
-            }
-        }
-        if let Some(g) = x.gain_reduction_margin_db {
-            if g > -gain_margin_db {
-                out.push(format!(
-                    "gain-reduction margin at {} {g:.1} dB (threshold -{gain_margin_db:.1} dB)",
-                    x.actuator
-                ));
-            }
-        }
-        if let Some(p) = x.phase_margin_deg {
-            if p < phase_margin_deg {
-                out.push(format!(
-                    "phase margin at {} {p:.1} deg (threshold {phase_margin_deg:.1} deg)",
-                    x.actuator
+                    "disk margin at {} {a:.2} (+-{} dB, +-{:.0} deg; threshold {disk_margin:.2})",
+                    x.actuator,
+                    disk_gain_db(a).map_or("inf".into(), |g| format!("{g:.1}")),
+                    disk_phase_deg(a),
                 ));
             }
         }
     }
     out
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn wrap_keeps_the_half_open_circle() {
-        assert_eq!(wrap_deg(180.0), 180.0);
-        assert_eq!(wrap_deg(-180.0), 180.0);
-        assert!((wrap_deg(190.0) + 170.0).abs() < 1e-12);
-        assert!((wrap_deg(-370.0) + 10.0).abs() < 1e-12);
-    }
 }

@@ -255,6 +255,22 @@ impl FlightSettings {
             1000.0,
             "a servo bandwidth in rad/s, e.g. 8",
         )?;
+        check(
+            &p,
+            "loop_delay_s",
+            f.loop_delay_s,
+            0.0,
+            0.5,
+            "the sensor-plus-computation delay in s, e.g. 0.02 (0 leaves it out)",
+        )?;
+        check(
+            &p,
+            "elevator_bandwidth_rad_s",
+            f.elevator_bandwidth_rad_s,
+            0.0,
+            1000.0,
+            "an elevator servo bandwidth in rad/s, e.g. 30 (0 = positioned at once)",
+        )?;
         positive(
             &p,
             "pitch_bandwidth_rad_s",

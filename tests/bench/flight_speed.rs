@@ -41,6 +41,7 @@ fn main() {
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let t = Instant::now();
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});

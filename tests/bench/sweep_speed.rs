@@ -37,6 +37,7 @@ fn main() {
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
         gains: Some(FeedbackGains::from_file(&sc.file.flight)),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let mut bare = settings.clone();
     bare.gains = None;

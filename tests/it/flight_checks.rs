@@ -221,6 +221,7 @@ fn surveyor_table(
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let settings = settings_with(f);
@@ -537,6 +538,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let s = FlightSettings::from_scenario(&sc).unwrap();
@@ -546,6 +548,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
         &sc.schedule,
     )
     .unwrap();
+    let ls = hoverline::control::loops::LoopSettings::from_file(&sc.file.flight);
     let mut checked = 0;
     for p in table.points.iter().filter(|p| p.trim.trimmed) {
         let lin = p.trim.linear.as_ref().unwrap();
@@ -556,6 +559,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
             lin,
             &s.gains,
             0.0,
+            &ls,
         );
         let cl = closed_loop(
             &sc.vehicle,
@@ -564,6 +568,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
             lin,
             &s.gains,
             0.0,
+            &ls,
         );
         for (j, m) in margins.iter().enumerate() {
             let (Some(gm), Some(w180)) = (m.gain_margin_db, m.phase_crossover_rad_s) else {

@@ -6,6 +6,7 @@ mod atmosphere_checks;
 mod corridor_checks;
 mod dynamics_checks;
 mod flight_checks;
+mod loop_checks;
 mod report_checks;
 mod rotor_checks;
 mod trim_checks;
