@@ -562,12 +562,12 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
     match &inp.flight {
         Ok(fl) => {
             let s = &fl.summary;
-            if let Some(w) = &s.stopped {
+            for x in &s.unsafe_findings {
                 push(
                     &mut out,
                     Severity::Unsafe,
                     "flight",
-                    format!("the {} flight was stopped: {w}", s.manoeuvre),
+                    format!("{}: {x}", s.manoeuvre),
                     None,
                 );
             }
@@ -601,23 +601,6 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
                     ),
                     None,
                 ),
-            }
-            if !s.corridor_exits.is_empty() {
-                let spans: Vec<String> = s
-                    .corridor_exits
-                    .iter()
-                    .map(|i| format!("{}\u{2013}{} s", f(i.from_s, 1), f(i.to_s, 1)))
-                    .collect();
-                push(
-                    &mut out,
-                    Severity::Unsafe,
-                    "flight",
-                    format!(
-                        "the flight passes speeds where the trim table is untrimmable at {}",
-                        spans.join(", ")
-                    ),
-                    None,
-                );
             }
             if !s.saturations.is_empty() {
                 let total: f64 = s.saturations.iter().map(|i| i.duration_s()).sum();
