@@ -53,7 +53,7 @@ use crate::vehicle::Vehicle;
 pub const OMEGA_MIN_RAD_S: f64 = 1e-3;
 /// Highest frequency of the search (rad/s).
 pub const OMEGA_MAX_RAD_S: f64 = 1e3;
-const POINTS_PER_DECADE: usize = 40;
+const POINTS_PER_DECADE: usize = 30;
 /// A loop whose gain stays below this everywhere (-40 dB) closes nothing of consequence.
 pub const IN_LOOP_GAIN: f64 = 0.01;
 /// Gain margins beyond this (dB, either way) are reported as null: no gain change a loop can
@@ -214,23 +214,54 @@ pub fn disk_margin_for(gain_margin_db: f64, phase_margin_deg: f64) -> f64 {
     from_gain.max(from_phase)
 }
 
-/// Bisection in log frequency for a sign change of `f` between `lo` and `hi`.
-fn refine<F: Fn(f64) -> f64>(f: F, mut lo: f64, mut hi: f64) -> f64 {
-    let mut flo = f(lo);
-    for _ in 0..80 {
-        let mid = (lo * hi).sqrt();
-        let fm = f(mid);
-        if (fm > 0.0) == (flo > 0.0) {
-            lo = mid;
-            flo = fm;
+/// Root of `f` in log frequency between `lo` and `hi`, where `f` changes sign: regula falsi
+/// with the Illinois modification (the bracket is kept, so it converges like bisection at
+/// worst and superlinearly on smooth functions), to 1e-12 relative in frequency.
+fn refine<F: Fn(f64) -> f64>(f: F, lo: f64, hi: f64) -> f64 {
+    let (mut a, mut b) = (lo.ln(), hi.ln());
+    let (mut fa, mut fb) = (f(lo), f(hi));
+    if fa == 0.0 {
+        return lo;
+    }
+    if fb == 0.0 || (fa > 0.0) == (fb > 0.0) {
+        return hi;
+    }
+    let mut side = 0i8;
+    for _ in 0..100 {
+        let c = if (fb - fa).abs() > 0.0 {
+            (a * fb - b * fa) / (fb - fa)
         } else {
-            hi = mid;
+            0.5 * (a + b)
+        };
+        let c = if c > a.min(b) && c < a.max(b) {
+            c
+        } else {
+            0.5 * (a + b)
+        };
+        let fc = f(c.exp());
+        if fc == 0.0 {
+            return c.exp();
         }
-        if hi / lo - 1.0 < 1e-12 {
+        if (fc > 0.0) == (fb > 0.0) {
+            b = c;
+            fb = fc;
+            if side == -1 {
+                fa *= 0.5;
+            }
+            side = -1;
+        } else {
+            a = c;
+            fa = fc;
+            if side == 1 {
+                fb *= 0.5;
+            }
+            side = 1;
+        }
+        if (a - b).abs() < 1e-12 {
             break;
         }
     }
-    (lo * hi).sqrt()
+    (0.5 * (a + b)).exp()
 }
 
 /// Golden-section search for the largest `f` in log frequency on `[lo, hi]`: (w, f(w)).
@@ -241,7 +272,8 @@ fn peak<F: Fn(f64) -> f64>(f: F, lo: f64, hi: f64) -> (f64, f64) {
     let mut d = a + r * (b - a);
     let (mut fc, mut fd) = (f(c.exp()), f(d.exp()));
     for _ in 0..60 {
-        if b - a < 1e-9 {
+        // The peak is flat: a bracket of 1e-5 in log frequency fixes its value to ~1e-10.
+        if b - a < 1e-5 {
             break;
         }
         if fc > fd {
@@ -271,11 +303,11 @@ fn finite(z: Complex<f64>) -> bool {
 
 /// `|S - T| / 2 = |1 - L| / (2 |1 + L|)`.
 fn disk_value(z: Complex<f64>) -> f64 {
-    let d = (Complex::new(1.0, 0.0) + z).norm();
+    let d = (Complex::new(1.0, 0.0) + z).norm_sqr();
     if d == 0.0 {
         f64::INFINITY
     } else {
-        (Complex::new(1.0, 0.0) - z).norm() / (2.0 * d)
+        0.5 * ((Complex::new(1.0, 0.0) - z).norm_sqr() / d).sqrt()
     }
 }
 
@@ -286,16 +318,18 @@ pub fn frequency_margins<F: Fn(f64) -> Complex<f64>>(
     w_lo: f64,
     w_hi: f64,
 ) -> FrequencyMargins {
-    frequency_margins_with(l, w_lo, w_hi, &[])
+    frequency_margins_with(l, w_lo, w_hi, &[], true)
 }
 
 /// As [`frequency_margins`], with extra frequencies (rad/s) where `|S - T|` may peak (the
-/// closed-loop roots' frequencies).
+/// closed-loop roots' frequencies); without `crossings` only the disk margin and the peak
+/// gain are computed.
 pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
     l: &F,
     w_lo: f64,
     w_hi: f64,
     hints: &[f64],
+    crossings: bool,
 ) -> FrequencyMargins {
     let mut out = FrequencyMargins::default();
     if !(w_lo > 0.0 && w_hi > w_lo && w_lo.is_finite() && w_hi.is_finite()) {
@@ -342,29 +376,30 @@ pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
     };
     let mut w0 = w_lo;
     let mut za = l(w0);
-    let mut peak_gain = if finite(za) { za.norm() } else { 0.0 };
+    let mut peak_gain2 = if finite(za) { za.norm_sqr() } else { 0.0 };
     if finite(za) {
         disk_at(w0, za, &mut disk);
     }
     for i in 1..=n {
-        let w1 = if i == n {
-            w_hi
-        } else {
-            w_lo * step.powi(i as i32)
-        };
+        let w1 = if i == n { w_hi } else { w0 * step };
         let zb = l(w1);
         if !finite(zb) || !finite(za) {
             w0 = w1;
             za = zb;
             continue;
         }
-        peak_gain = peak_gain.max(zb.norm());
+        peak_gain2 = peak_gain2.max(zb.norm_sqr());
         disk_at(w1, zb, &mut disk);
-        let (ga, gb) = (za.norm() - 1.0, zb.norm() - 1.0);
+        if !crossings {
+            w0 = w1;
+            za = zb;
+            continue;
+        }
+        let (ga, gb) = (za.norm_sqr() - 1.0, zb.norm_sqr() - 1.0);
         if ga * gb <= 0.0 && ga != gb {
-            let wc = refine(|w| l(w).norm() - 1.0, w0, w1);
+            let wc = refine(|w| l(w).norm_sqr() - 1.0, w0, w1);
             let zc = l(wc);
-            if (zc.norm() - 1.0).abs() < 1e-6 {
+            if (zc.norm_sqr() - 1.0).abs() < 2e-6 {
                 let phi = (zc.arg() + std::f64::consts::PI).rem_euclid(2.0 * std::f64::consts::PI);
                 let phi_deg = phi.to_degrees();
                 if lag.is_none_or(|(p, _)| phi_deg < p) {
@@ -386,7 +421,7 @@ pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
     }
     // A loop rolled off at the top of the search is taken to L -> 0 beyond it (|S - T|/2 -> 1/2).
     let top = l(w_hi);
-    if finite(top) && top.norm() < 1e-2 && 0.5 >= disk.0 {
+    if finite(top) && top.norm_sqr() < 1e-4 && 0.5 >= disk.0 {
         disk = (0.5, None);
     }
     // Refine the disk peak around the largest sample and around every hint.
@@ -404,7 +439,7 @@ pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
     }
     let mut best = disk;
     for &w in centres.iter().chain(hints.iter()) {
-        if !(w > w_lo && w < w_hi) {
+        if !(w > w_lo && w < w_hi) || dv(w) < 0.5 * best.0 {
             continue;
         }
         let (wp, vp) = peak(dv, (w / step).max(w_lo), (w * step).min(w_hi));
@@ -420,7 +455,7 @@ pub fn frequency_margins_with<F: Fn(f64) -> Complex<f64>>(
     out.delay_margin_s = delay;
     out.disk_margin = (best.0 > 0.0).then(|| 1.0 / best.0);
     out.disk_frequency_rad_s = best.1;
-    out.peak_gain = peak_gain;
+    out.peak_gain = peak_gain2.sqrt();
     out
 }
 
@@ -457,21 +492,22 @@ impl Siso {
     }
 }
 
-/// One factor of a characteristic polynomial on the imaginary axis: a real root `r`,
-/// `jw - r`, or a complex pair `a +- jb`, `(a^2 + b^2 - w^2) - j 2 a w`.
+/// One factor of a characteristic polynomial on the imaginary axis: a quadratic
+/// `s^2 - p s + q` (a complex pair, `p = 2 Re`, `q = |root|^2`, or two real roots, `p` their
+/// sum and `q` their product), `(q - w^2) - j p w`, or a single real root `r`, `jw - r`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 struct Factor {
-    pair: bool,
-    re: f64,
-    sq: f64,
+    quadratic: bool,
+    p: f64,
+    q: f64,
 }
 
 impl Factor {
     fn at(&self, w: f64) -> Complex<f64> {
-        if self.pair {
-            Complex::new(self.sq - w * w, -2.0 * self.re * w)
+        if self.quadratic {
+            Complex::new(self.q - w * w, -self.p * w)
         } else {
-            Complex::new(-self.re, w)
+            Complex::new(-self.p, w)
         }
     }
 }
@@ -492,22 +528,33 @@ impl Roots {
         let tol = 1e-12 * scale;
         let mut factors = Vec::with_capacity(ev.len());
         let mut values = Vec::with_capacity(ev.len());
+        let mut single: Option<f64> = None;
         for z in ev.iter() {
             if z.im > tol {
                 factors.push(Factor {
-                    pair: true,
-                    re: z.re,
-                    sq: z.norm_sqr(),
+                    quadratic: true,
+                    p: 2.0 * z.re,
+                    q: z.norm_sqr(),
                 });
                 values.push(*z);
             } else if z.im >= -tol {
-                factors.push(Factor {
-                    pair: false,
-                    re: z.re,
-                    sq: 0.0,
-                });
                 values.push(Complex::new(z.re, 0.0));
+                match single.take() {
+                    Some(r) => factors.push(Factor {
+                        quadratic: true,
+                        p: r + z.re,
+                        q: r * z.re,
+                    }),
+                    None => single = Some(z.re),
+                }
             }
+        }
+        if let Some(r) = single {
+            factors.push(Factor {
+                quadratic: false,
+                p: r,
+                q: 0.0,
+            });
         }
         Roots { factors, values }
     }
@@ -584,8 +631,9 @@ impl ClosedLoop {
         Roots::of(&self.a_closed(&vec![1.0; self.b.len()])).stable()
     }
 
-    /// Margins at every actuator: (closed loop stable, margins per actuator, in loop).
-    pub fn margins(&self) -> (bool, Vec<FrequencyMargins>) {
+    /// Margins at every actuator: (closed loop stable, margins per actuator); without
+    /// `crossings` only the disk margins and peak gains.
+    pub fn margins(&self, crossings: bool) -> (bool, Vec<FrequencyMargins>) {
         let m = self.b.len();
         let closed = Roots::of(&self.a_closed(&vec![1.0; m]));
         let stable = closed.stable();
@@ -616,6 +664,7 @@ impl ClosedLoop {
                 OMEGA_MIN_RAD_S,
                 OMEGA_MAX_RAD_S,
                 &hints,
+                crossings,
             );
         }
         (true, out)
@@ -789,7 +838,7 @@ pub fn loop_margins(
     ls: &LoopSettings,
 ) -> Vec<LoopMargin> {
     let cl = closed_loop(v, state, controls, lin, gains, climb_rad, ls);
-    let (stable, fm) = cl.margins();
+    let (stable, fm) = cl.margins(true);
     let in_loop: Vec<bool> = (0..cl.b.len())
         .map(|j| {
             if stable {
@@ -809,7 +858,7 @@ pub fn loop_margins(
             effectiveness: e * ls.effectiveness,
             ..*ls
         };
-        let (ok, mm) = closed_loop(v, state, controls, lin, gains, climb_rad, &case).margins();
+        let (ok, mm) = closed_loop(v, state, controls, lin, gains, climb_rad, &case).margins(false);
         mismatch_stable &= ok;
         for (j, w) in worst.iter_mut().enumerate() {
             let d = if ok { mm[j].disk_margin } else { Some(0.0) };
