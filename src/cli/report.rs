@@ -222,6 +222,33 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
     if let Ok((table, f)) = &flight {
         written.extend(flight_files::write(&dir, &sc, table, ff_sweep, f)?);
     }
+    // The back-transition, cruise to hover, on the same table.
+    let flight_back = match &flight {
+        Ok((table, _)) => {
+            let b = bar(100, "4/4 back-transition", "% of the flight");
+            let r = fly(
+                &sc.vehicle,
+                &atm,
+                table,
+                &flight_settings,
+                Manoeuvre::CruiseToHover,
+                &|x| b.set_position((100.0 * x) as u64),
+            )
+            .map_err(|e| e.to_string());
+            b.finish_and_clear();
+            r
+        }
+        Err(why) => Err(why.clone()),
+    };
+    if let (Ok((table, _)), Ok(f)) = (&flight, &flight_back) {
+        written.extend(flight_files::write(
+            &dir.join("back-transition"),
+            &sc,
+            table,
+            ff_sweep,
+            f,
+        )?);
+    }
 
     // Figures, read back from the files just written.
     let corridor_fig = match (&corridor, &schedule) {
@@ -260,6 +287,7 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         corridor: corridor.as_ref().map(|(_, c)| c).map_err(Clone::clone),
         schedule: schedule.as_ref().map_err(Clone::clone),
         flight: flight.as_ref().map(|(_, f)| f).map_err(Clone::clone),
+        flight_back: flight_back.as_ref().map_err(Clone::clone),
         figures: &figures,
         files: &names,
     };
