@@ -23,8 +23,12 @@ pub fn ensure_dir(dir: &Path) -> Result<(), WriteError> {
     })
 }
 
-/// Write `bytes` to `path` atomically (temporary file in the same folder, then rename).
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
+/// Write to `path` atomically: `fill` writes the content into a buffered temporary file in
+/// the same folder, which is then synced and renamed over `path`.
+pub fn write_atomic_with(
+    path: &Path,
+    fill: impl FnOnce(&mut dyn Write) -> std::io::Result<()>,
+) -> Result<(), WriteError> {
     let err = |source| WriteError {
         path: path.to_path_buf(),
         source,
@@ -39,23 +43,33 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_default();
     let tmp = dir.join(format!(".{name}.tmp{}", std::process::id()));
-    let mut f = std::fs::File::create(&tmp).map_err(err)?;
-    f.write_all(bytes).map_err(err)?;
-    f.sync_all().map_err(err)?;
-    drop(f);
+    let written = (|| {
+        let mut w = std::io::BufWriter::with_capacity(1 << 16, std::fs::File::create(&tmp)?);
+        fill(&mut w)?;
+        let f = w.into_inner().map_err(|e| e.into_error())?;
+        f.sync_all()
+    })();
+    if let Err(e) = written {
+        let _ = std::fs::remove_file(&tmp);
+        return Err(err(e));
+    }
     std::fs::rename(&tmp, path).map_err(|e| {
         let _ = std::fs::remove_file(&tmp);
         err(e)
     })
 }
 
-/// Serialise `value` as pretty JSON and write it atomically.
+/// Write `bytes` to `path` atomically (temporary file in the same folder, then rename).
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
+    write_atomic_with(path, |w| w.write_all(bytes))
+}
+
+/// Serialise `value` as pretty JSON straight into the file (no whole-document string) and
+/// write it atomically.
 pub fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<(), WriteError> {
-    let s = serde_json::to_string_pretty(value).map_err(|e| WriteError {
-        path: path.to_path_buf(),
-        source: std::io::Error::other(e),
-    })?;
-    write_atomic(path, s.as_bytes())
+    write_atomic_with(path, |w| {
+        serde_json::to_writer_pretty(w, value).map_err(std::io::Error::other)
+    })
 }
 
 /// Write a CSV table (header and rows of already formatted cells) atomically.
@@ -93,6 +107,19 @@ mod tests {
             .filter(|e| e.file_name().to_string_lossy().contains(".tmp"))
             .collect();
         assert!(leftovers.is_empty());
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn streamed_json_is_the_same_document() {
+        let dir = std::env::temp_dir().join(format!("hoverline-json-{}", std::process::id()));
+        let p = dir.join("a.json");
+        let v = vec![(1.5, "x"), (2.0, "y")];
+        write_json(&p, &v).unwrap();
+        assert_eq!(
+            std::fs::read_to_string(&p).unwrap(),
+            serde_json::to_string_pretty(&v).unwrap()
+        );
         std::fs::remove_dir_all(&dir).unwrap();
     }
 }
