@@ -1,8 +1,8 @@
 //! Benchmark: what `hoverline sweep` does for the tilt-wing courier's scenario, at 1,000 speeds
 //! over the scenario's own range: its tilt schedule, its thresholds, the linear model and the
 //! loop margins of the feedback law at every point, then the sweep.json document. On one core
-//! and on all cores. A second line times the sweep without loop margins, a third one
-//! trimmed against one untrimmable point.
+//! and on all cores (the JSON written to a temporary file). A third line times the sweep
+//! without loop margins, a fourth one untrimmable point against one trimmed point.
 //! Run with `cargo bench --bench sweep_speed`. Prints the median of several runs.
 
 use std::path::Path;
@@ -10,6 +10,7 @@ use std::time::Instant;
 
 use hoverline::atmosphere::isa;
 use hoverline::control::law::FeedbackGains;
+use hoverline::output::files::write_json;
 use hoverline::scenario::load_scenario;
 use hoverline::sweep::{run_sweep, SweepSettings};
 
@@ -46,6 +47,8 @@ fn main() {
         .build()
         .expect("pool");
     let all = rayon::ThreadPoolBuilder::new().build().expect("pool");
+    let dir = std::env::temp_dir().join(format!("hoverline-bench-{}", std::process::id()));
+    let out = dir.join("sweep.json");
     let report = |label: &str, s: &SweepSettings, pool: &rayon::ThreadPool| {
         let mut times = Vec::new();
         let mut trimmed = 0;
@@ -53,10 +56,10 @@ fn main() {
         for _ in 0..7 {
             let t = Instant::now();
             let r = pool.install(|| run_sweep(&sc.vehicle, &atm, s, &|| {}));
-            let doc = serde_json::to_vec(&r).expect("serialises");
+            write_json(&out, &r).expect("writes");
             times.push(t.elapsed().as_secs_f64());
             trimmed = r.points.iter().filter(|p| p.trimmed).count();
-            bytes = doc.len();
+            bytes = std::fs::metadata(&out).map_or(0, |m| m.len());
         }
         println!(
             "courier sweep 1000 speeds, {label} ({} threads): median {:.1} ms ({trimmed} trimmed, {:.1} MB JSON)",
@@ -68,4 +71,35 @@ fn main() {
     report("linear models + loop margins, one core", &settings, &one);
     report("linear models + loop margins, all cores", &settings, &all);
     report("linear models, no loop margins, one core", &bare, &one);
+
+    // One untrimmable point against one trimmed point: 16 copies of the same speed (one chunk),
+    // as the sweep solves them, per point.
+    let probe = run_sweep(&sc.vehicle, &atm, &settings, &|| {});
+    let bad = probe
+        .points
+        .iter()
+        .find(|p| !p.trimmed)
+        .map(|p| p.speed_mps);
+    let good = probe.points.iter().find(|p| p.trimmed).map(|p| p.speed_mps);
+    let per_point = |speed: f64| {
+        let s = SweepSettings {
+            speeds_mps: vec![speed; 16],
+            ..settings.clone()
+        };
+        let mut times = Vec::new();
+        for _ in 0..7 {
+            let t = Instant::now();
+            one.install(|| run_sweep(&sc.vehicle, &atm, &s, &|| {}));
+            times.push(t.elapsed().as_secs_f64() / 16.0);
+        }
+        1e6 * median(times)
+    };
+    if let (Some(b), Some(g)) = (bad, good) {
+        let (tb, tg) = (per_point(b), per_point(g));
+        println!(
+            "one point, one core: untrimmable ({b:.2} m/s) median {tb:.0} us, trimmed ({g:.2} m/s) median {tg:.0} us, ratio {:.1}",
+            tb / tg
+        );
+    }
+    let _ = std::fs::remove_dir_all(&dir);
 }
