@@ -5,13 +5,14 @@
 
 pub mod aero;
 pub mod atmosphere;
+pub mod bands;
+pub mod control;
 pub mod corridor;
 pub mod dynamics;
 pub mod flight;
 pub mod input;
 pub mod limits;
 pub mod linear;
-pub mod loops;
 pub mod margins;
 pub mod output;
 pub mod rotor;

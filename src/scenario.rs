@@ -141,11 +141,14 @@ pub struct Thresholds {
     pub elevator_margin_deg: f64,
     /// Smallest static margin where wingborne (% chord).
     pub static_margin_pct: f64,
-    /// Shortest acceptable time to double amplitude of an unstable mode (s).
+    /// Shortest acceptable time to double amplitude of an open-loop unstable mode (s); 0
+    /// (the default) leaves it out of the verdict, which the closed loop decides.
     pub time_to_double_s: f64,
-    /// Smallest loop gain margin (dB).
+    /// Gain margin (dB) the symmetric disk margin of every loop must cover (its gain
+    /// equivalent, +-).
     pub gain_margin_db: f64,
-    /// Smallest loop phase margin (deg).
+    /// Phase margin (deg) the symmetric disk margin of every loop must cover (its phase
+    /// equivalent, +-).
     pub phase_margin_deg: f64,
 }
 
@@ -162,11 +165,12 @@ impl Default for Thresholds {
             pitch_accel_rad_s2: 0.5,
             elevator_margin_deg: 2.0,
             static_margin_pct: 5.0,
-            // Bare-airframe hover modes of VTOL vehicles typically double in 1-3 s and are
-            // stabilised by the flight-control system; faster growth needs a high-bandwidth
-            // loop (common practice, no source).
-            time_to_double_s: 1.0,
-            // MIL-F-9490D flight-control stability margins (from memory).
+            // Open-loop unstable modes are a demand on the loop (reported with the crossover
+            // they ask for), not a verdict: the closed loop decides (common practice, no
+            // source).
+            time_to_double_s: 0.0,
+            // MIL-F-9490D flight-control stability margins (from memory), required here of
+            // the symmetric disk margin's gain and phase equivalents (alpha >= 0.83).
             gain_margin_db: 6.0,
             phase_margin_deg: 45.0,
         }
@@ -219,6 +223,10 @@ pub struct FlightFile {
     pub absolute_tolerance: f64,
     /// Bandwidth of the tilt servo behind its rate limit (rad/s).
     pub tilt_servo_bandwidth_rad_s: f64,
+    /// Total sensor-plus-computation delay of the feedback in the loop-margin model (s).
+    pub loop_delay_s: f64,
+    /// Bandwidth of the elevator servos in the loop-margin model (rad/s; 0 = at once).
+    pub elevator_bandwidth_rad_s: f64,
     /// Pitch-attitude loop natural frequency (rad/s).
     pub pitch_bandwidth_rad_s: f64,
     /// Pitch-attitude loop damping ratio (-).
@@ -304,6 +312,10 @@ impl Default for FlightFile {
             relative_tolerance: 1e-6,
             absolute_tolerance: 1e-6,
             tilt_servo_bandwidth_rad_s: 8.0,
+            // Common practice, no source: a 50 Hz sensor and control cycle with filtering
+            // (20 ms) and a small hobby-grade servo (about 5 Hz).
+            loop_delay_s: 0.02,
+            elevator_bandwidth_rad_s: 30.0,
             pitch_bandwidth_rad_s: 3.0,
             pitch_damping: 0.8,
             height_bandwidth_rad_s: 0.8,
@@ -773,7 +785,6 @@ fn build(
         ("pitch_accel_rad_s2", th.pitch_accel_rad_s2),
         ("elevator_margin_deg", th.elevator_margin_deg),
         ("static_margin_pct", th.static_margin_pct),
-        ("time_to_double_s", th.time_to_double_s),
         ("gain_margin_db", th.gain_margin_db),
         ("phase_margin_deg", th.phase_margin_deg),
     ] {
@@ -785,6 +796,14 @@ fn build(
                 "give a positive threshold; a threshold of zero or below would switch its check off",
             ));
         }
+    }
+    // 0 is the default and leaves open-loop doubling out of the verdict, as documented.
+    if finite(tp.key("time_to_double_s"), th.time_to_double_s)? < 0.0 {
+        return Err(Invalid::new(
+            tp.key("time_to_double_s"),
+            format!("must be 0 (off) or positive, got {}", th.time_to_double_s),
+            "give the shortest acceptable open-loop time to double in s, or 0 to leave it to the closed loop",
+        ));
     }
     let share = finite(tp.key("stalled_load_share"), th.stalled_load_share)?;
     if !(crate::margins::LOADED_PART_SHARE..=1.0).contains(&share) {

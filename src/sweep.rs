@@ -12,7 +12,9 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use crate::atmosphere::Atmosphere;
-use crate::dynamics::STATE_NAMES;
+pub use crate::bands::{bands_of, Band};
+use crate::control::TrimPoint;
+use crate::dynamics::{Controls, State, STATE_NAMES};
 use crate::linear::{linearise, modes, LinearModel, Mode};
 use crate::margins::{margins, Margins};
 use crate::scenario::{Schedule, Thresholds};
@@ -36,7 +38,9 @@ pub struct SweepSettings {
     /// Thresholds for unsafe points.
     pub thresholds: Thresholds,
     /// Feedback law whose loop margins are computed at every trimmed point (None: skip).
-    pub gains: Option<crate::flight::law::FeedbackGains>,
+    pub gains: Option<crate::control::law::FeedbackGains>,
+    /// The loop model around the law (delay, servos) for the loop margins.
+    pub loop_model: crate::control::loops::LoopSettings,
 }
 
 /// Residual of a point.
@@ -147,23 +151,14 @@ pub struct PointReport {
     pub state_names: Vec<String>,
     /// Linear-model input names.
     pub input_names: Vec<String>,
+    /// Unstable open-loop modes and the loop crossover each demands (empty when untrimmed).
+    pub open_loop_demands: Vec<crate::control::loops::OpenLoopDemand>,
     /// Loop margins of the feedback law at each actuator (empty when untrimmed or not asked).
-    pub loop_margins: Vec<crate::loops::LoopMargin>,
+    pub loop_margins: Vec<crate::control::loops::LoopMargin>,
     /// A matrix rows (null when untrimmed).
     pub a_matrix: Option<Vec<Vec<f64>>>,
     /// B matrix rows (null when untrimmed).
     pub b_matrix: Option<Vec<Vec<f64>>>,
-}
-
-/// A contiguous band of speeds sharing a condition.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Band {
-    /// First speed (m/s).
-    pub from_mps: f64,
-    /// Last speed (m/s).
-    pub to_mps: f64,
-    /// Distinct reasons over the band.
-    pub reasons: Vec<String>,
 }
 
 /// Stall exposure of one surface over the sweep.
@@ -215,14 +210,18 @@ pub fn solve_point(
 }
 
 /// Add the loop margins of a feedback law to an assessed, trimmed point, with the reasons
-/// where they fall short of the thresholds (MIL-F-9490D defaults: 6 dB, 45 deg).
+/// where the closed loop falls short: unstable, nominal or with the plant mismatch, or a
+/// symmetric disk margin that does not cover the thresholds' gain and phase margins
+/// (MIL-F-9490D defaults: 6 dB, 45 deg).
+#[allow(clippy::too_many_arguments)]
 pub fn add_loop_margins(
     v: &Vehicle,
     atm: &Atmosphere,
     req: &TrimRequest,
     sol: &TrimSolution,
     th: &Thresholds,
-    gains: &crate::flight::law::FeedbackGains,
+    gains: &crate::control::law::FeedbackGains,
+    ls: &crate::control::loops::LoopSettings,
     report: &mut PointReport,
 ) {
     // The point's own linear model (already in the report); re-linearise only if it is absent.
@@ -236,10 +235,24 @@ pub fn add_loop_margins(
     }) else {
         return;
     };
-    let m = crate::loops::loop_margins(v, &sol.state, &sol.controls, &lin, gains, req.climb_rad);
-    let short = crate::loops::margin_shortfalls(&m, th.gain_margin_db, th.phase_margin_deg);
+    let m = crate::control::loops::loop_margins(
+        v,
+        &sol.state,
+        &sol.controls,
+        &lin,
+        gains,
+        req.climb_rad,
+        ls,
+    );
+    let disk = crate::control::loops::disk_margin_for(th.gain_margin_db, th.phase_margin_deg);
+    let short = crate::control::loops::margin_shortfalls(&m, disk);
     if !short.is_empty() {
-        report.reason_kinds.push("loop margins".into());
+        let kind = if m.iter().any(|x| !x.closed_loop_stable) {
+            "closed loop unstable"
+        } else {
+            "loop margins"
+        };
+        report.reason_kinds.push(kind.into());
         report.reasons.extend(short);
     }
     report.loop_margins = m;
@@ -282,6 +295,7 @@ pub fn assess(
         margins: None,
         state_names: STATE_NAMES.iter().map(|s| s.to_string()).collect(),
         input_names: v.input_names(),
+        open_loop_demands: Vec::new(),
         loop_margins: Vec::new(),
         a_matrix: None,
         b_matrix: None,
@@ -349,6 +363,7 @@ pub fn assess(
     report.reason_kinds = kinds;
     report.advisories = advisories(&m);
     report.margins = Some(m);
+    report.open_loop_demands = crate::control::loops::open_loop_demands(&ms);
     report.modes = ms;
     report.a_matrix = Some(lin.a_rows());
     report.b_matrix = Some(lin.b_rows());
@@ -451,7 +466,7 @@ pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>
         }
     }
     if let Some(t2) = m.time_to_double_s {
-        if t2 < th.time_to_double_s {
+        if th.time_to_double_s > 0.0 && t2 < th.time_to_double_s {
             r.push(format!(
                 "unstable mode doubles in {t2:.2} s (threshold {:.1} s)",
                 th.time_to_double_s
@@ -522,34 +537,6 @@ pub fn advisories(m: &Margins) -> Vec<String> {
         .collect()
 }
 
-/// Group consecutive flagged points into bands; each band lists the distinct kinds.
-pub fn bands_of(speeds: &[f64], flags: &[Vec<String>]) -> Vec<Band> {
-    let mut out: Vec<Band> = Vec::new();
-    let mut open = false;
-    for (i, f) in flags.iter().enumerate() {
-        if f.is_empty() {
-            open = false;
-            continue;
-        }
-        if !open {
-            out.push(Band {
-                from_mps: speeds[i],
-                to_mps: speeds[i],
-                reasons: Vec::new(),
-            });
-            open = true;
-        }
-        let b = out.last_mut().expect("a band is open");
-        b.to_mps = speeds[i];
-        for k in f {
-            if !b.reasons.contains(k) {
-                b.reasons.push(k.clone());
-            }
-        }
-    }
-    out
-}
-
 /// Run a whole sweep. `progress` is called once per solved point (from any thread).
 pub fn run_sweep(
     v: &Vehicle,
@@ -593,7 +580,16 @@ pub fn run_sweep(
                     .is_some_and(|m| m.stall_verdict != crate::margins::StallVerdict::Attached);
                 stalled_run = if stalled { stalled_run + 1 } else { 0 };
                 if let Some(g) = &s.gains {
-                    add_loop_margins(v, atm, &req, &sol, &s.thresholds, g, &mut rep);
+                    add_loop_margins(
+                        v,
+                        atm,
+                        &req,
+                        &sol,
+                        &s.thresholds,
+                        g,
+                        &s.loop_model,
+                        &mut rep,
+                    );
                 }
                 if sol.trimmed() {
                     warm = Some(sol.guess());
@@ -659,24 +655,67 @@ fn stall_exposure(v: &Vehicle, points: &[PointReport], th: &Thresholds) -> Vec<S
         .collect()
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn bands_merge_neighbours_and_keep_distinct_reasons() {
-        let s = [0.0, 1.0, 2.0, 3.0, 4.0];
-        let f = vec![
-            vec!["a".to_string()],
-            vec!["a".to_string(), "b".to_string()],
-            vec![],
-            vec!["c".to_string()],
-            vec![],
-        ];
-        let b = bands_of(&s, &f);
-        assert_eq!(b.len(), 2);
-        assert_eq!((b[0].from_mps, b[0].to_mps), (0.0, 1.0));
-        assert_eq!(b[0].reasons, vec!["a", "b"]);
-        assert_eq!((b[1].from_mps, b[1].to_mps), (3.0, 3.0));
+impl PointReport {
+    /// The trim point of this report for the feedback law (controls from the actuator list,
+    /// state from pitch and angle of attack in still air, A and B from the matrices).
+    pub fn trim_point(&self, v: &Vehicle) -> TrimPoint {
+        let p = self;
+        let mut controls = Controls::zeros(v);
+        let find = |kind: &str, name: &str| {
+            p.actuators
+                .iter()
+                .find(|a| a.kind == kind && a.name == name)
+                .map(|a| a.value)
+        };
+        for (g, r) in v.rotors.iter().enumerate() {
+            controls.thrust_n[g] = find("thrust", &r.name).unwrap_or(0.0) / r.count as f64;
+        }
+        for (k, e) in v.elevators.iter().enumerate() {
+            controls.elevator_rad[k] = find("elevator", &e.name).unwrap_or(0.0).to_radians();
+        }
+        for (k, a) in v.actuators.iter().enumerate() {
+            controls.tilt_rad[k] = find("tilt", &a.name)
+                .unwrap_or(a.max_rad.to_degrees())
+                .to_radians();
+        }
+        let theta = p.pitch_deg.unwrap_or(0.0).to_radians();
+        let alpha = p.alpha_deg.unwrap_or(0.0).to_radians();
+        let state = State {
+            u_mps: p.speed_mps * alpha.cos(),
+            w_mps: p.speed_mps * alpha.sin(),
+            q_rad_s: 0.0,
+            theta_rad: theta,
+        };
+        let linear = match (&p.a_matrix, &p.b_matrix) {
+            (Some(a), Some(b)) if a.len() == 4 && b.len() == 4 => {
+                let am = nalgebra::Matrix4::from_fn(|i, j| a[i].get(j).copied().unwrap_or(0.0));
+                let m = b[0].len();
+                let cols = (0..m)
+                    .map(|j| {
+                        [
+                            b[0][j],
+                            b[1].get(j).copied().unwrap_or(0.0),
+                            b[2].get(j).copied().unwrap_or(0.0),
+                            b[3].get(j).copied().unwrap_or(0.0),
+                        ]
+                    })
+                    .collect();
+                Some(LinearModel { a: am, b: cols })
+            }
+            _ => None,
+        };
+        TrimPoint {
+            speed_mps: p.speed_mps,
+            trimmed: p.trimmed && linear.is_some() && p.pitch_deg.is_some(),
+            reasons: p.reasons.clone(),
+            state,
+            controls,
+            linear,
+        }
     }
+}
+
+/// The trim points of a sweep's reports, in order, for the feedback law's table.
+pub fn trim_points(v: &Vehicle, points: &[PointReport]) -> Vec<TrimPoint> {
+    points.iter().map(|p| p.trim_point(v)).collect()
 }

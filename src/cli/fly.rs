@@ -57,6 +57,7 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
         objective: Objective::Reserve,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let bar = indicatif::ProgressBar::new(sweep_settings.speeds_mps.len() as u64);
     bar.set_style(
@@ -66,9 +67,12 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
     bar.set_prefix("trimming");
     bar.set_message("speeds");
     let sweep = run_sweep(&sc.vehicle, &atm, &sweep_settings, &|| bar.inc(1));
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &schedule, &settings.gains)
-            .map_err(|e| CliError::Analysis(e.to_string()))?;
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &schedule,
+    )
+    .map_err(|e| CliError::Analysis(e.to_string()))?;
     bar.set_prefix("flying");
     bar.set_message("% of the flight");
     bar.set_length(100);

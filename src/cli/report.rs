@@ -147,9 +147,10 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         schedule: sc.schedule.clone(),
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
-        gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+        gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let b = bar(settings.speeds_mps.len() as u64, "1/4 sweep", "speeds");
     let sweep = run_sweep(&sc.vehicle, &atm, &settings, &|| b.inc(1));
@@ -201,11 +202,10 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         b.finish_and_clear();
         &power_sweep
     };
-    let flight = FeedforwardTable::from_sweep(
+    let flight = FeedforwardTable::from_points(
         &sc.vehicle,
-        &ff_sweep.points,
+        hoverline::sweep::trim_points(&sc.vehicle, &ff_sweep.points),
         &sc.schedule,
-        &flight_settings.gains,
     )
     .map_err(|e| e.to_string())
     .and_then(|table| {
@@ -224,6 +224,33 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
     });
     if let Ok((table, f)) = &flight {
         written.extend(flight_files::write(&dir, &sc, table, ff_sweep, f)?);
+    }
+    // The back-transition, cruise to hover, on the same table.
+    let flight_back = match &flight {
+        Ok((table, _)) => {
+            let b = bar(100, "4/4 back-transition", "% of the flight");
+            let r = fly(
+                &sc.vehicle,
+                &atm,
+                table,
+                &flight_settings,
+                Manoeuvre::CruiseToHover,
+                &|x| b.set_position((100.0 * x) as u64),
+            )
+            .map_err(|e| e.to_string());
+            b.finish_and_clear();
+            r
+        }
+        Err(why) => Err(why.clone()),
+    };
+    if let (Ok((table, _)), Ok(f)) = (&flight, &flight_back) {
+        written.extend(flight_files::write(
+            &dir.join("back-transition"),
+            &sc,
+            table,
+            ff_sweep,
+            f,
+        )?);
     }
 
     // Figures, read back from the files just written.
@@ -263,6 +290,7 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
         corridor: corridor.as_ref().map(|(_, c)| c).map_err(Clone::clone),
         schedule: schedule.as_ref().map_err(Clone::clone),
         flight: flight.as_ref().map(|(_, f)| f).map_err(Clone::clone),
+        flight_back: flight_back.as_ref().map_err(Clone::clone),
         figures: &figures,
         files: &names,
     };

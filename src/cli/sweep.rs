@@ -39,9 +39,10 @@ pub fn run(a: SweepArgs) -> Result<(), CliError> {
         schedule: sc.schedule.clone(),
         objective: sc.file.sweep.objective,
         thresholds: sc.file.thresholds.clone(),
-        gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+        gains: Some(hoverline::control::law::FeedbackGains::from_file(
             &sc.file.flight,
         )),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let bar = indicatif::ProgressBar::new(settings.speeds_mps.len() as u64);
     bar.set_style(

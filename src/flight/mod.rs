@@ -20,7 +20,7 @@
 //!   height follows the scenario's flight-path angle. The feedforward (trim pitch, thrusts,
 //!   elevators) and the tilt command follow the table at the planned speed.
 //! - **Feedback:** feedforward from the trim table at the measured airspeed plus the law of
-//!   [`law`] (speed, height and pitch-attitude loops, pseudo-inverse allocation). Speed and
+//!   [`crate::control::law`] (speed, height and pitch-attitude loops, pseudo-inverse allocation). Speed and
 //!   height integrators stop while the pitch offset or a feedback input is at a limit
 //!   (conditional integration against wind-up).
 //!
@@ -31,7 +31,6 @@
 //! far beyond the table) is stopped and reported, never left to run on.
 
 pub mod dispersion;
-pub mod law;
 pub mod sim;
 pub mod summary;
 pub mod table;
@@ -45,14 +44,14 @@ use crate::input::{Invalid, KeyPath};
 use crate::scenario::{FlightFile, Scenario, TransitionFile};
 use crate::vehicle::Vehicle;
 
-pub use law::FeedbackGains;
+pub use crate::control::law::FeedbackGains;
+pub use crate::control::TrimPoint;
 pub use sim::Sample;
 pub use summary::{Event, Summary};
-pub use table::{FeedforwardTable, TrimPoint};
+pub use table::FeedforwardTable;
 pub use wind::{Gust, WindModel};
 
-/// Thrust lags shorter than this are taken as this (s), so the integrator can carry them.
-pub const MIN_THRUST_LAG_S: f64 = 0.01;
+pub use crate::control::MIN_THRUST_LAG_S;
 
 /// Longest flight simulated (s).
 pub const MAX_DURATION_S: f64 = 3600.0;
@@ -255,6 +254,22 @@ impl FlightSettings {
             f.tilt_servo_bandwidth_rad_s,
             1000.0,
             "a servo bandwidth in rad/s, e.g. 8",
+        )?;
+        check(
+            &p,
+            "loop_delay_s",
+            f.loop_delay_s,
+            0.0,
+            0.5,
+            "the sensor-plus-computation delay in s, e.g. 0.02 (0 leaves it out)",
+        )?;
+        check(
+            &p,
+            "elevator_bandwidth_rad_s",
+            f.elevator_bandwidth_rad_s,
+            0.0,
+            1000.0,
+            "an elevator servo bandwidth in rad/s, e.g. 30 (0 = positioned at once)",
         )?;
         positive(
             &p,

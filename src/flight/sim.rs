@@ -9,11 +9,12 @@ use ode_solvers::continuous_output_model::ContinuousOutputModel;
 use ode_solvers::{Dopri5, OutputType, System};
 use serde::Serialize;
 
-use super::law::{law, InputLimits, LawInput, MAX_INPUTS};
 use super::table::{Feedforward, FeedforwardTable};
 use super::wind::WindModel;
-use super::{FeedbackGains, FlightError, FlightSettings, Reference, MIN_THRUST_LAG_S};
+use super::{FeedbackGains, FlightError, FlightSettings, Reference};
 use crate::atmosphere::{isa, Atmosphere};
+use crate::control::law::{law, InputLimits, LawInput, MAX_INPUTS};
+use crate::control::MIN_THRUST_LAG_S;
 use crate::dynamics::{evaluate, Controls, Evaluation, State, Wind};
 use crate::rotor;
 use crate::vehicle::Vehicle;

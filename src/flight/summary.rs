@@ -18,8 +18,8 @@ use super::sim::{Run, Sample};
 use super::table::FeedforwardTable;
 use super::{FlightSettings, Manoeuvre, Reference};
 use crate::atmosphere::Atmosphere;
+use crate::bands::Band;
 use crate::dynamics::{evaluate, Evaluation, Wind};
-use crate::sweep::Band;
 use crate::vehicle::Vehicle;
 
 /// Tilt within this of its final scheduled value ends the transition (rad).
@@ -180,6 +180,97 @@ pub struct Summary {
     pub plan_held: Vec<Interval>,
     /// The load rule for stall exposure (fraction of weight).
     pub stall_load_fraction: f64,
+    /// How the flight ended: "completed", "departed" (stopped by departure detection) or
+    /// "held" (not stopped, but the transition was not completed by the end of the flight).
+    pub outcome: String,
+    /// Why, in plain words.
+    pub outcome_reason: String,
+    /// When (s): the stop, the first plan hold, or the end of the flight.
+    pub outcome_time_s: f64,
+    /// UNSAFE findings: a departed or held flight, a pitch-control surface flown beyond stall,
+    /// flight outside the table's speeds. Empty when none.
+    pub unsafe_findings: Vec<String>,
+}
+
+/// The outcome of a flight: (outcome, reason, time).
+fn outcome_of(
+    stopped: Option<&(f64, String)>,
+    criterion: &str,
+    transition: Option<&Transition>,
+    plan_held: &[Interval],
+    duration_s: f64,
+) -> (String, String, f64) {
+    if let Some((t, why)) = stopped {
+        return ("departed".into(), format!("stopped at {t:.2} s: {why}"), *t);
+    }
+    if !criterion.is_empty() && transition.is_none() {
+        let (t, why) = match plan_held.first() {
+            Some(h) => (
+                h.from_s,
+                format!(
+                    "the transition was not completed by the end of the flight ({duration_s:.1} s); the plan waited for the vehicle from {:.2} s at {:.1} m/s: {}",
+                    h.from_s, h.from_speed_mps, h.detail
+                ),
+            ),
+            None => (
+                duration_s,
+                format!(
+                    "the transition was not completed by the end of the flight ({duration_s:.1} s)"
+                ),
+            ),
+        };
+        return ("held".into(), why, t);
+    }
+    let why = match transition {
+        Some(t) => format!("transition complete at {:.2} s", t.end_s),
+        None => "flown to the end without departure".into(),
+    };
+    (
+        "completed".into(),
+        why,
+        transition.map_or(duration_s, |t| t.end_s),
+    )
+}
+
+/// UNSAFE findings of a flight: its outcome, stall of a surface that carries a pitch control,
+/// and corridor exits.
+fn findings(
+    v: &Vehicle,
+    outcome: &(String, String, f64),
+    surfaces: &[SurfaceExposure],
+    corridor_exits: &[Interval],
+) -> Vec<String> {
+    let mut out = Vec::new();
+    if outcome.0 != "completed" {
+        out.push(format!("flight {}: {}", outcome.0, outcome.1));
+    }
+    let pitch_control = |name: &str| {
+        v.surfaces
+            .iter()
+            .any(|s| s.name == name && s.elevator.is_some())
+            || (name == "airframe" && v.derivatives.as_ref().is_some_and(|d| d.elevator.is_some()))
+    };
+    for x in surfaces.iter().filter(|x| x.time_beyond_stall_s > 0.0) {
+        if pitch_control(&x.name) {
+            let first = x.stalled.first();
+            out.push(format!(
+                "pitch-control surface '{}' beyond stall for {:.2} s{}",
+                x.name,
+                x.time_beyond_stall_s,
+                first.map_or(String::new(), |i| format!(
+                    " (from {:.2} s at {:.1} m/s, alpha up to {:.1} deg)",
+                    i.from_s, i.from_speed_mps, i.peak_alpha_deg
+                ))
+            ));
+        }
+    }
+    for i in corridor_exits {
+        out.push(format!(
+            "left the corridor {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {}",
+            i.from_s, i.to_s, i.from_speed_mps, i.to_speed_mps, i.detail
+        ));
+    }
+    out
 }
 
 /// Something that happened, for the event list.
@@ -545,7 +636,7 @@ pub fn summarise(
                         _ => vec![],
                     })
                     .collect();
-                let bands = crate::sweep::bands_of(&speeds, &flags);
+                let bands = crate::bands::bands_of(&speeds, &flags);
                 let mut agree = 0usize;
                 let mut count = 0usize;
                 for k in 0..n {
@@ -685,6 +776,25 @@ pub fn summarise(
             }
             corridor_exits.push(iv);
         }
+        // Airspeeds beyond the table's ends by more than 1 m/s: no trim point covers them.
+        let (lo, hi) = t.speed_range();
+        let beyond = |k: usize| s[k].airspeed_mps > hi + 1.0 || s[k].airspeed_mps < lo - 1.0;
+        for (a, b) in runs(n, beyond) {
+            let detail = format!(
+                "airspeed beyond the trim table's {lo:.1} .. {hi:.1} m/s, where no trim point covers it"
+            );
+            let iv = interval(s, (a, b), "outside the trimmable corridor".into(), detail);
+            events.push(ev(
+                a,
+                "corridor-exit",
+                format!(
+                    "left the corridor at {:.1} m/s: {}",
+                    s[a].airspeed_mps, iv.detail
+                ),
+            ));
+            corridor_exits.push(iv);
+        }
+        corridor_exits.sort_by(|x, y| x.from_s.total_cmp(&y.from_s));
     }
 
     // Tilt lag.
@@ -822,11 +932,20 @@ pub fn summarise(
     }
     events.sort_by(|a, b| a.time_s.total_cmp(&b.time_s));
 
+    let duration_s = s.last().map_or(0.0, |x| x.time_s);
+    let outcome = outcome_of(
+        run.stopped.as_ref(),
+        &criterion,
+        transition.as_ref(),
+        &plan_held,
+        duration_s,
+    );
+    let unsafe_findings = findings(v, &outcome, &surfaces, &corridor_exits);
     let summary = Summary {
         manoeuvre: manoeuvre.label().to_string(),
         start_speed_mps: start_v,
         end_speed_mps: end_v,
-        duration_s: s.last().map_or(0.0, |x| x.time_s),
+        duration_s,
         stopped: run
             .stopped
             .as_ref()
@@ -848,6 +967,10 @@ pub fn summarise(
         tilt_lag,
         plan_held,
         stall_load_fraction: min_load,
+        outcome: outcome.0,
+        outcome_reason: outcome.1,
+        outcome_time_s: outcome.2,
+        unsafe_findings,
     };
     (summary, events)
 }

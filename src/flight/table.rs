@@ -7,32 +7,11 @@
 //! table (a stalled tail in trim) is given no authority at that point. With a tilt
 //! schedule the tilt command is the schedule itself at the measured airspeed.
 
-use nalgebra::Matrix4;
-
-use super::law::{allocation, feedback_inputs, Allocation, FeedbackGains, MAX_INPUTS};
 use super::FlightError;
-use crate::dynamics::{Controls, State};
-use crate::linear::LinearModel;
+use crate::control::law::{allocation, feedback_inputs, Allocation, MAX_INPUTS};
+use crate::control::TrimPoint;
 use crate::scenario::Schedule;
-use crate::sweep::PointReport;
 use crate::vehicle::Vehicle;
-
-/// One trim point as the table needs it.
-#[derive(Debug, Clone)]
-pub struct TrimPoint {
-    /// Airspeed (m/s).
-    pub speed_mps: f64,
-    /// Whether the point is trimmed.
-    pub trimmed: bool,
-    /// Why it is untrimmable or unsafe (text).
-    pub reasons: Vec<String>,
-    /// Trim state (still air).
-    pub state: State,
-    /// Trim controls.
-    pub controls: Controls,
-    /// Linear model (trimmed points only).
-    pub linear: Option<LinearModel>,
-}
 
 /// A point of the table.
 #[derive(Debug, Clone)]
@@ -133,7 +112,7 @@ impl FeedforwardTable {
                 if pts[i].allocation.effect[j][2] * reference < 0.0 {
                     pts[i].allocation.effect[j] = [0.0; 3];
                     pts[i].allocation.weight[j] =
-                        pts[i].allocation.weight[j].min(super::law::WEIGHT_FLOOR);
+                        pts[i].allocation.weight[j].min(crate::control::law::WEIGHT_FLOOR);
                 }
             }
         }
@@ -143,19 +122,6 @@ impl FeedforwardTable {
             schedule: schedule.clone(),
             counts: (v.rotors.len(), v.elevators.len(), v.actuators.len()),
         })
-    }
-
-    /// Build from the points of a sweep (`hoverline sweep` layout).
-    /// (`_gains` is accepted for callers that pass the flight's design; the table itself does
-    /// not depend on it.)
-    pub fn from_sweep(
-        v: &Vehicle,
-        points: &[PointReport],
-        schedule: &Schedule,
-        _gains: &FeedbackGains,
-    ) -> Result<FeedforwardTable, FlightError> {
-        let trims = points.iter().map(|p| trim_point_of_report(v, p)).collect();
-        FeedforwardTable::from_points(v, trims, schedule)
     }
 
     /// Lowest and highest table speed (m/s).
@@ -252,62 +218,5 @@ impl FeedforwardTable {
         }
         out.allocation = Allocation::blend(&pa.allocation, &pb.allocation, t);
         out.nearest = self.nearest(s);
-    }
-}
-
-/// Rebuild the trim point of a sweep report (controls from the actuator list, state from
-/// pitch and angle of attack in still air, A and B from the matrices).
-pub fn trim_point_of_report(v: &Vehicle, p: &PointReport) -> TrimPoint {
-    let mut controls = Controls::zeros(v);
-    let find = |kind: &str, name: &str| {
-        p.actuators
-            .iter()
-            .find(|a| a.kind == kind && a.name == name)
-            .map(|a| a.value)
-    };
-    for (g, r) in v.rotors.iter().enumerate() {
-        controls.thrust_n[g] = find("thrust", &r.name).unwrap_or(0.0) / r.count as f64;
-    }
-    for (k, e) in v.elevators.iter().enumerate() {
-        controls.elevator_rad[k] = find("elevator", &e.name).unwrap_or(0.0).to_radians();
-    }
-    for (k, a) in v.actuators.iter().enumerate() {
-        controls.tilt_rad[k] = find("tilt", &a.name)
-            .unwrap_or(a.max_rad.to_degrees())
-            .to_radians();
-    }
-    let theta = p.pitch_deg.unwrap_or(0.0).to_radians();
-    let alpha = p.alpha_deg.unwrap_or(0.0).to_radians();
-    let state = State {
-        u_mps: p.speed_mps * alpha.cos(),
-        w_mps: p.speed_mps * alpha.sin(),
-        q_rad_s: 0.0,
-        theta_rad: theta,
-    };
-    let linear = match (&p.a_matrix, &p.b_matrix) {
-        (Some(a), Some(b)) if a.len() == 4 && b.len() == 4 => {
-            let am = Matrix4::from_fn(|i, j| a[i].get(j).copied().unwrap_or(0.0));
-            let m = b[0].len();
-            let cols = (0..m)
-                .map(|j| {
-                    [
-                        b[0][j],
-                        b[1].get(j).copied().unwrap_or(0.0),
-                        b[2].get(j).copied().unwrap_or(0.0),
-                        b[3].get(j).copied().unwrap_or(0.0),
-                    ]
-                })
-                .collect();
-            Some(LinearModel { a: am, b: cols })
-        }
-        _ => None,
-    };
-    TrimPoint {
-        speed_mps: p.speed_mps,
-        trimmed: p.trimmed && linear.is_some() && p.pitch_deg.is_some(),
-        reasons: p.reasons.clone(),
-        state,
-        controls,
-        linear,
     }
 }

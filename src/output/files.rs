@@ -23,8 +23,12 @@ pub fn ensure_dir(dir: &Path) -> Result<(), WriteError> {
     })
 }
 
-/// Write `bytes` to `path` atomically (temporary file in the same folder, then rename).
-pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
+/// Write to `path` atomically: `fill` writes the content into a buffered temporary file in
+/// the same folder, which is then synced and renamed over `path`.
+pub fn write_atomic_with(
+    path: &Path,
+    fill: impl FnOnce(&mut dyn Write) -> std::io::Result<()>,
+) -> Result<(), WriteError> {
     let err = |source| WriteError {
         path: path.to_path_buf(),
         source,
@@ -38,9 +42,13 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
         .file_name()
         .map(|n| n.to_string_lossy().to_string())
         .unwrap_or_default();
-    let (tmp, mut f) = create_temporary(dir, &name, "tmp").map_err(err)?;
-    let written = f.write_all(bytes).and_then(|_| f.sync_all());
-    drop(f);
+    let (tmp, f) = create_temporary(dir, &name, "tmp").map_err(err)?;
+    let written = (|| {
+        let mut w = std::io::BufWriter::with_capacity(1 << 16, f);
+        fill(&mut w)?;
+        let f = w.into_inner().map_err(|e| e.into_error())?;
+        f.sync_all()
+    })();
     if let Err(e) = written {
         let _ = std::fs::remove_file(&tmp);
         return Err(err(e));
@@ -203,7 +211,14 @@ impl RunFolder {
         let mut out = Vec::new();
         for n in names {
             let to = self.dir.join(&n);
-            std::fs::rename(self.staging.join(&n), &to).map_err(io_err(&to))?;
+            let from = self.staging.join(&n);
+            // A sub-folder of the set (the back-transition's files) replaces the one an
+            // earlier run wrote: a folder cannot be renamed over a non-empty one.
+            let old_dir = std::fs::symlink_metadata(&to).is_ok_and(|m| m.is_dir());
+            if old_dir && from.is_dir() {
+                std::fs::remove_dir_all(&to).map_err(io_err(&to))?;
+            }
+            std::fs::rename(&from, &to).map_err(io_err(&to))?;
             out.push(to);
         }
         Ok(out)
@@ -231,13 +246,17 @@ pub fn neutralise_cell(cell: &str) -> std::borrow::Cow<'_, str> {
     }
 }
 
-/// Serialise `value` as pretty JSON and write it atomically.
+/// Write `bytes` to `path` atomically (temporary file in the same folder, then rename).
+pub fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), WriteError> {
+    write_atomic_with(path, |w| w.write_all(bytes))
+}
+
+/// Serialise `value` as pretty JSON straight into the file (no whole-document string) and
+/// write it atomically.
 pub fn write_json<T: serde::Serialize>(path: &Path, value: &T) -> Result<(), WriteError> {
-    let s = serde_json::to_string_pretty(value).map_err(|e| WriteError {
-        path: path.to_path_buf(),
-        source: std::io::Error::other(e),
-    })?;
-    write_atomic(path, s.as_bytes())
+    write_atomic_with(path, |w| {
+        serde_json::to_writer_pretty(w, value).map_err(std::io::Error::other)
+    })
 }
 
 /// Write a CSV table (header and rows of already formatted cells) atomically.
@@ -303,6 +322,19 @@ mod tests {
         write_atomic(&dir.join("out.txt"), b"new").unwrap();
         assert_eq!(std::fs::read_to_string(&victim).unwrap(), "keep");
         assert_eq!(std::fs::read_to_string(dir.join("out.txt")).unwrap(), "new");
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    #[test]
+    fn streamed_json_is_the_same_document() {
+        let dir = std::env::temp_dir().join(format!("hoverline-json-{}", std::process::id()));
+        let p = dir.join("a.json");
+        let v = vec![(1.5, "x"), (2.0, "y")];
+        write_json(&p, &v).unwrap();
+        assert_eq!(
+            std::fs::read_to_string(&p).unwrap(),
+            serde_json::to_string_pretty(&v).unwrap()
+        );
         std::fs::remove_dir_all(&dir).unwrap();
     }
 }

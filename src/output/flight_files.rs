@@ -266,6 +266,14 @@ pub struct FlightDocument<'a> {
     /// Tool, caution, scenario and vehicle.
     #[serde(flatten)]
     pub header: super::Header<'a>,
+    /// How the flight ended: completed, departed or held.
+    pub outcome: &'a str,
+    /// Why.
+    pub outcome_reason: &'a str,
+    /// When (s).
+    pub outcome_time_s: f64,
+    /// UNSAFE findings (empty when none).
+    pub unsafe_findings: &'a [String],
     /// The flight (manoeuvre, reference, wind, summary, events, integrator statistics).
     pub flight: &'a Flight,
     /// The scenario's `[flight]` table as flown (defaults filled in).
@@ -278,6 +286,10 @@ pub struct FlightDocument<'a> {
 pub fn document<'a>(sc: &'a Scenario, sweep: &SweepResult, f: &'a Flight) -> FlightDocument<'a> {
     FlightDocument {
         header: super::Header::of(sc),
+        outcome: &f.summary.outcome,
+        outcome_reason: &f.summary.outcome_reason,
+        outcome_time_s: f.summary.outcome_time_s,
+        unsafe_findings: &f.summary.unsafe_findings,
         flight: f,
         settings: &sc.file.flight,
         stall_comparison: stall_comparison(sweep, &f.summary),
@@ -313,6 +325,7 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     if let Some(w) = &s.stopped {
         let _ = writeln!(o, "  ! STOPPED {w}");
     }
+    let _ = writeln!(o, "  outcome: {} ({})", s.outcome, s.outcome_reason);
     match &s.transition {
         Some(t) => {
             let _ = writeln!(
@@ -427,7 +440,15 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     }
     let _ = writeln!(o, "\ncorridor:");
     if s.corridor_exits.is_empty() {
-        let _ = writeln!(o, "  stayed inside the trimmable corridor of the schedule");
+        if s.outcome == "completed" {
+            let _ = writeln!(o, "  stayed inside the trimmable corridor of the schedule");
+        } else {
+            let _ = writeln!(
+                o,
+                "  ! left the trimmed flight it was following: {} at {:.2} s ({})",
+                s.outcome, s.outcome_time_s, s.outcome_reason
+            );
+        }
     }
     for i in &s.corridor_exits {
         let _ = writeln!(
@@ -435,6 +456,13 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
             "  ! LEFT THE CORRIDOR {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {}",
             i.from_s, i.to_s, i.from_speed_mps, i.to_speed_mps, i.detail
         );
+    }
+    let _ = writeln!(o, "\nverdict:");
+    if s.unsafe_findings.is_empty() {
+        let _ = writeln!(o, "  no UNSAFE finding in this flight");
+    }
+    for x in &s.unsafe_findings {
+        let _ = writeln!(o, "  UNSAFE: {x}");
     }
     let _ = writeln!(o, "\nsaturations:");
     if s.saturations.is_empty() && s.tilt_lag.is_empty() {

@@ -745,6 +745,7 @@ mod tests {
             margins: None,
             state_names: Vec::new(),
             input_names: Vec::new(),
+            open_loop_demands: Vec::new(),
             loop_margins: Vec::new(),
             a_matrix: None,
             b_matrix: None,

@@ -92,6 +92,8 @@ pub struct ReportInputs<'a> {
     pub schedule: Result<&'a BuiltSchedule, String>,
     /// The hover-to-cruise flight, or why not available.
     pub flight: Result<&'a Flight, String>,
+    /// The cruise-to-hover flight (the scenario's deceleration), or why not available.
+    pub flight_back: Result<&'a Flight, String>,
     /// The figures.
     pub figures: &'a Figures,
     /// Names of the data files written beside the report (relative to its folder).
@@ -559,92 +561,82 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
     }
 
     // The flight.
-    match &inp.flight {
-        Ok(fl) => {
-            let s = &fl.summary;
-            if let Some(w) = &s.stopped {
-                push(
-                    &mut out,
-                    Severity::Unsafe,
-                    "flight",
-                    format!("the {} flight was stopped: {w}", s.manoeuvre),
-                    None,
-                );
-            }
-            match &s.transition {
-                Some(t) => push(
-                    &mut out,
-                    Severity::Ok,
-                    "flight",
-                    format!(
-                        "{} in {} s over {} m, {} kJ; height lost {} m, gained {} m",
-                        s.manoeuvre,
-                        f(t.time_s, 1),
-                        f(t.distance_m, 0),
-                        f(t.energy_j / 1000.0, 1),
-                        f(s.height_lost_m, 2),
-                        f(s.height_gained_m, 2)
-                    ),
-                    None,
-                ),
-                None => push(
-                    &mut out,
-                    Severity::Caution,
-                    "flight",
-                    format!(
-                        "{} not completed in {} s ({}); height lost {} m, gained {} m",
-                        s.manoeuvre,
-                        f(s.duration_s, 1),
-                        s.transition_criterion,
-                        f(s.height_lost_m, 2),
-                        f(s.height_gained_m, 2)
-                    ),
-                    None,
-                ),
-            }
-            if !s.corridor_exits.is_empty() {
-                let spans: Vec<String> = s
-                    .corridor_exits
-                    .iter()
-                    .map(|i| format!("{}\u{2013}{} s", f(i.from_s, 1), f(i.to_s, 1)))
-                    .collect();
-                push(
-                    &mut out,
-                    Severity::Unsafe,
-                    "flight",
-                    format!(
-                        "the flight passes speeds where the trim table is untrimmable at {}",
-                        spans.join(", ")
-                    ),
-                    None,
-                );
-            }
-            if !s.saturations.is_empty() {
-                let total: f64 = s.saturations.iter().map(|i| i.duration_s()).sum();
-                push(
-                    &mut out,
-                    Severity::Caution,
-                    "flight",
-                    format!(
-                        "{}, {} s in all (see the flight section)",
-                        plural(
-                            s.saturations.len(),
-                            "control saturation",
-                            "control saturations"
+    for flight in [&inp.flight, &inp.flight_back] {
+        match flight {
+            Ok(fl) => {
+                let s = &fl.summary;
+                for x in &s.unsafe_findings {
+                    push(
+                        &mut out,
+                        Severity::Unsafe,
+                        "flight",
+                        format!("{}: {x}", s.manoeuvre),
+                        None,
+                    );
+                }
+                match &s.transition {
+                    Some(t) => push(
+                        &mut out,
+                        // A flight with an UNSAFE finding is never "ok", however it ended.
+                        if s.unsafe_findings.is_empty() {
+                            Severity::Ok
+                        } else {
+                            Severity::Note
+                        },
+                        "flight",
+                        format!(
+                            "{} in {} s over {} m, {} kJ; height lost {} m, gained {} m",
+                            s.manoeuvre,
+                            f(t.time_s, 1),
+                            f(t.distance_m, 0),
+                            f(t.energy_j / 1000.0, 1),
+                            f(s.height_lost_m, 2),
+                            f(s.height_gained_m, 2)
                         ),
-                        f(total, 1)
+                        None,
                     ),
-                    None,
-                );
+                    None => push(
+                        &mut out,
+                        Severity::Caution,
+                        "flight",
+                        format!(
+                            "{} not completed in {} s ({}); height lost {} m, gained {} m",
+                            s.manoeuvre,
+                            f(s.duration_s, 1),
+                            s.transition_criterion,
+                            f(s.height_lost_m, 2),
+                            f(s.height_gained_m, 2)
+                        ),
+                        None,
+                    ),
+                }
+                if !s.saturations.is_empty() {
+                    let total: f64 = s.saturations.iter().map(|i| i.duration_s()).sum();
+                    push(
+                        &mut out,
+                        Severity::Caution,
+                        "flight",
+                        format!(
+                            "{}, {} s in all (see the flight section)",
+                            plural(
+                                s.saturations.len(),
+                                "control saturation",
+                                "control saturations"
+                            ),
+                            f(total, 1)
+                        ),
+                        None,
+                    );
+                }
             }
+            Err(why) => push(
+                &mut out,
+                Severity::Note,
+                "flight",
+                format!("not available: {why}"),
+                None,
+            ),
         }
-        Err(why) => push(
-            &mut out,
-            Severity::Note,
-            "flight",
-            format!("not available: {why}"),
-            None,
-        ),
     }
     if let Err(why) = &inp.corridor {
         push(
@@ -673,6 +665,11 @@ pub fn missing(inp: &ReportInputs) -> Vec<Missing> {
     add("corridor", "corridor", inp.corridor.as_ref().map(|_| ()));
     add("corridor", "schedule", inp.schedule.as_ref().map(|_| ()));
     add("flight", "flight", inp.flight.as_ref().map(|_| ()));
+    add(
+        "flight",
+        "back-transition flight",
+        inp.flight_back.as_ref().map(|_| ()),
+    );
     let g = inp.figures;
     for (section, what, fig) in [
         ("corridor", "corridor figure", &g.corridor),
@@ -1363,23 +1360,8 @@ fn modes_section(out: &mut String, inp: &ReportInputs) {
     out.push_str("</section>\n");
 }
 
-fn flight_section(out: &mut String, inp: &ReportInputs) {
-    let t = section_titles();
-    open_section(
-        out,
-        "flight",
-        t[7],
-        "The nonlinear model flown in time from hover to cruise along the schedule in use, with feedforward from the trim table and the documented feedback law.",
-    );
-    let fl = match &inp.flight {
-        Ok(f) => f,
-        Err(why) => {
-            not_available(out, why);
-            out.push_str("</section>\n");
-            return;
-        }
-    };
-    let s = &fl.summary;
+/// The summary table of one flight.
+fn flight_table(s: &crate::flight::Summary) -> Table {
     let mut tb = Table::new(&["quantity", "value"], &[false, false]);
     tb.row(false, vec!["manoeuvre".into(), s.manoeuvre.clone()]);
     tb.row(
@@ -1394,8 +1376,20 @@ fn flight_section(out: &mut String, inp: &ReportInputs) {
             ),
         ],
     );
-    if let Some(w) = &s.stopped {
-        tb.row(true, vec!["stopped".into(), w.clone()]);
+    tb.row(
+        s.outcome != "completed",
+        vec![
+            "outcome".into(),
+            format!(
+                "{} at {} s: {}",
+                s.outcome,
+                f(s.outcome_time_s, 1),
+                s.outcome_reason
+            ),
+        ],
+    );
+    for x in &s.unsafe_findings {
+        tb.row(true, vec!["UNSAFE".into(), x.clone()]);
     }
     match &s.transition {
         Some(tr) => tb.row(
@@ -1476,7 +1470,27 @@ fn flight_section(out: &mut String, inp: &ReportInputs) {
             ),
         ],
     );
-    out.push_str(&tb.html(""));
+    tb
+}
+
+fn flight_section(out: &mut String, inp: &ReportInputs) {
+    let t = section_titles();
+    open_section(
+        out,
+        "flight",
+        t[7],
+        "The nonlinear model flown in time from hover to cruise along the schedule in use, with feedforward from the trim table and the documented feedback law.",
+    );
+    let fl = match &inp.flight {
+        Ok(f) => f,
+        Err(why) => {
+            not_available(out, why);
+            out.push_str("</section>\n");
+            return;
+        }
+    };
+    let s = &fl.summary;
+    out.push_str(&flight_table(s).html(""));
     figure(
         out,
         &inp.figures.flight_states,
@@ -1593,6 +1607,19 @@ fn flight_section(out: &mut String, inp: &ReportInputs) {
         "Thrust and shaft power of every rotor group with what is available, and elevator deflection with its limits, against time.",
     );
     data_links(out, inp.files, &["flight.csv", "flight.json"]);
+    out.push_str("<h3>Back-transition (cruise to hover)</h3>\n");
+    match &inp.flight_back {
+        Ok(b) => {
+            out.push_str("<p>The same law flown from the highest trimmed table speed down to hover at the scenario's deceleration.</p>\n");
+            out.push_str(&flight_table(&b.summary).html(""));
+            data_links(
+                out,
+                inp.files,
+                &["back-transition/flight.csv", "back-transition/flight.json"],
+            );
+        }
+        Err(why) => not_available(out, why),
+    }
     out.push_str("</section>\n");
 }
 

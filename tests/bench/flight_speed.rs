@@ -41,13 +41,17 @@ fn main() {
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let t = Instant::now();
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let settings = FlightSettings::from_scenario(&sc).expect("settings");
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &sc.schedule, &settings.gains)
-            .expect("table");
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .expect("table");
     let table_s = t.elapsed().as_secs_f64();
     let one = rayon::ThreadPoolBuilder::new()
         .num_threads(1)

@@ -1,15 +1,18 @@
-//! Benchmark: a sweep of 1,000 speeds with the linear model of every point, on one demo
-//! vehicle (the tail-sitter wing, hover to 24 m/s), on one core and on all cores.
+//! Benchmark: what `hoverline sweep` does for the tilt-wing courier's scenario, at 1,000 speeds
+//! over the scenario's own range: its tilt schedule, its thresholds, the linear model and the
+//! loop margins of the feedback law at every point, then the sweep.json document. On one core
+//! and on all cores (the JSON written to a temporary file). A third line times the sweep
+//! without loop margins, a fourth one untrimmable point against one trimmed point.
 //! Run with `cargo bench --bench sweep_speed`. Prints the median of several runs.
 
 use std::path::Path;
 use std::time::Instant;
 
 use hoverline::atmosphere::isa;
-use hoverline::scenario::{Schedule, Thresholds};
+use hoverline::control::law::FeedbackGains;
+use hoverline::output::files::write_json;
+use hoverline::scenario::load_scenario;
 use hoverline::sweep::{run_sweep, SweepSettings};
-use hoverline::trim::Objective;
-use hoverline::vehicle::load_vehicle;
 
 fn median(mut v: Vec<f64>) -> f64 {
     v.sort_by(|a, b| a.partial_cmp(b).expect("finite timings"));
@@ -18,36 +21,85 @@ fn median(mut v: Vec<f64>) -> f64 {
 
 fn main() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
-    let v = load_vehicle(&root.join("vehicles/tail-sitter-wing.toml")).expect("demo vehicle loads");
-    let atm = isa(100.0, 0.0).expect("atmosphere");
+    let sc = load_scenario(&root.join("scenarios/courier-transition.toml"))
+        .expect("demo scenario loads");
+    let atm = isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .expect("atmosphere");
+    let (lo, hi) = (sc.file.sweep.from_mps, sc.file.sweep.to_mps);
     let settings = SweepSettings {
-        speeds_mps: (0..1000).map(|i| 24.0 * i as f64 / 999.0).collect(),
-        climb_rad: 0.0,
-        schedule: Schedule::Free,
-        objective: Objective::Power,
-        thresholds: Thresholds::default(),
-        gains: None,
+        speeds_mps: (0..1000)
+            .map(|i| lo + (hi - lo) * i as f64 / 999.0)
+            .collect(),
+        climb_rad: sc.climb_rad,
+        schedule: sc.schedule.clone(),
+        objective: sc.file.sweep.objective,
+        thresholds: sc.file.thresholds.clone(),
+        gains: Some(FeedbackGains::from_file(&sc.file.flight)),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
+    let mut bare = settings.clone();
+    bare.gains = None;
     let one = rayon::ThreadPoolBuilder::new()
         .num_threads(1)
         .build()
         .expect("pool");
     let all = rayon::ThreadPoolBuilder::new().build().expect("pool");
-    let report = |label: &str, pool: &rayon::ThreadPool| {
+    let dir = std::env::temp_dir().join(format!("hoverline-bench-{}", std::process::id()));
+    let out = dir.join("sweep.json");
+    let report = |label: &str, s: &SweepSettings, pool: &rayon::ThreadPool| {
         let mut times = Vec::new();
         let mut trimmed = 0;
+        let mut bytes = 0;
         for _ in 0..7 {
             let t = Instant::now();
-            let r = pool.install(|| run_sweep(&v, &atm, &settings, &|| {}));
+            let r = pool.install(|| run_sweep(&sc.vehicle, &atm, s, &|| {}));
+            write_json(&out, &r).expect("writes");
             times.push(t.elapsed().as_secs_f64());
             trimmed = r.points.iter().filter(|p| p.trimmed).count();
+            bytes = std::fs::metadata(&out).map_or(0, |m| m.len());
         }
         println!(
-            "sweep 1000 speeds + linear models, {label} ({} threads): median {:.1} ms ({trimmed} trimmed)",
+            "courier sweep 1000 speeds, {label} ({} threads): median {:.1} ms ({trimmed} trimmed, {:.1} MB JSON)",
             pool.current_num_threads(),
-            1e3 * median(times)
+            1e3 * median(times),
+            bytes as f64 / 1e6
         );
     };
-    report("one core", &one);
-    report("all cores", &all);
+    report("linear models + loop margins, one core", &settings, &one);
+    report("linear models + loop margins, all cores", &settings, &all);
+    report("linear models, no loop margins, one core", &bare, &one);
+
+    // One untrimmable point against one trimmed point: 16 copies of the same speed (one chunk),
+    // as the sweep solves them, per point.
+    let probe = run_sweep(&sc.vehicle, &atm, &settings, &|| {});
+    let bad = probe
+        .points
+        .iter()
+        .find(|p| !p.trimmed)
+        .map(|p| p.speed_mps);
+    let good = probe.points.iter().find(|p| p.trimmed).map(|p| p.speed_mps);
+    let per_point = |speed: f64| {
+        let s = SweepSettings {
+            speeds_mps: vec![speed; 16],
+            ..settings.clone()
+        };
+        let mut times = Vec::new();
+        for _ in 0..7 {
+            let t = Instant::now();
+            one.install(|| run_sweep(&sc.vehicle, &atm, &s, &|| {}));
+            times.push(t.elapsed().as_secs_f64() / 16.0);
+        }
+        1e6 * median(times)
+    };
+    if let (Some(b), Some(g)) = (bad, good) {
+        let (tb, tg) = (per_point(b), per_point(g));
+        println!(
+            "one point, one core: untrimmable ({b:.2} m/s) median {tb:.0} us, trimmed ({g:.2} m/s) median {tg:.0} us, ratio {:.1}",
+            tb / tg
+        );
+    }
+    let _ = std::fs::remove_dir_all(&dir);
 }

@@ -5,13 +5,13 @@
 use std::path::{Path, PathBuf};
 
 use hoverline::atmosphere::{isa, G0_MPS2};
+use hoverline::control::loops::{closed_loop, frequency_margins, loop_margins, Siso};
 use hoverline::dynamics::{Controls, State};
 use hoverline::flight::wind::{discrete_gust, full_gust};
 use hoverline::flight::{
     fly_open_loop, fly_perturbed, FeedforwardTable, FlightSettings, Manoeuvre,
 };
 use hoverline::linear::{linearise, modes};
-use hoverline::loops::{closed_loop, frequency_margins, loop_margins, Siso};
 use hoverline::scenario::{
     load_scenario, FlightFile, GustDirection, GustFile, GustShape, TransitionFile,
 };
@@ -222,12 +222,16 @@ fn surveyor_table(
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let settings = settings_with(f);
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &sc.schedule, &settings.gains)
-            .unwrap();
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
     (sc.vehicle, atm, table, settings)
 }
 
@@ -535,11 +539,17 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
         objective: Objective::Power,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
     };
     let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
     let s = FlightSettings::from_scenario(&sc).unwrap();
-    let table =
-        FeedforwardTable::from_sweep(&sc.vehicle, &sweep.points, &sc.schedule, &s.gains).unwrap();
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
+    let ls = hoverline::control::loops::LoopSettings::from_file(&sc.file.flight);
     let mut checked = 0;
     for p in table.points.iter().filter(|p| p.trim.trimmed) {
         let lin = p.trim.linear.as_ref().unwrap();
@@ -550,6 +560,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
             lin,
             &s.gains,
             0.0,
+            &ls,
         );
         let cl = closed_loop(
             &sc.vehicle,
@@ -558,6 +569,7 @@ fn gain_margin_puts_the_closed_loop_on_the_stability_boundary() {
             lin,
             &s.gains,
             0.0,
+            &ls,
         );
         for (j, m) in margins.iter().enumerate() {
             let (Some(gm), Some(w180)) = (m.gain_margin_db, m.phase_crossover_rad_s) else {
@@ -664,4 +676,63 @@ fn dispersions_without_uncertainty_fly_the_nominal_vehicle() {
         assert_eq!(f.height_gained_m, nominal.summary.height_gained_m);
         assert_eq!(f.energy_j, nominal.summary.energy_j);
     }
+}
+
+#[test]
+fn a_flight_without_elevator_authority_departs_and_is_unsafe() {
+    // Common practice, no source: with its elevons (its only pitch control when wingborne)
+    // jammed at the trailing-edge-up limit, the tail-sitter cannot hold pitch at 20 m/s; the flight must end "departed" with an UNSAFE
+    // finding, never as a completed flight.
+    let sc = load_scenario(&root().join("scenarios/tail-sitter-transition.toml")).unwrap();
+    let atm = isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .unwrap();
+    let ss = SweepSettings {
+        speeds_mps: sc.speeds_mps.clone(),
+        climb_rad: 0.0,
+        schedule: sc.schedule.clone(),
+        objective: Objective::Power,
+        thresholds: sc.file.thresholds.clone(),
+        gains: None,
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
+    };
+    let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
+    let s = FlightSettings::from_scenario(&sc).unwrap();
+    let mut jammed = sc.vehicle.clone();
+    for e in &mut jammed.elevators {
+        e.max_rad = e.min_rad;
+    }
+    let m = Manoeuvre::Hold {
+        speed_mps: 20.0,
+        duration_s: 30.0,
+        height_step_m: 0.0,
+        height_step_at_s: 0.0,
+    };
+    let f = hoverline::flight::fly(&jammed, &atm, &table, &s, m, &|_| {}).unwrap();
+    assert_eq!(
+        f.summary.outcome, "departed",
+        "{}",
+        f.summary.outcome_reason
+    );
+    assert!(f.summary.stopped.is_some());
+    assert!(f
+        .summary
+        .unsafe_findings
+        .iter()
+        .any(|x| x.starts_with("flight departed")));
+    // The same hold with the elevator free completes.
+    let ok = hoverline::flight::fly(&sc.vehicle, &atm, &table, &s, m, &|_| {}).unwrap();
+    assert_eq!(
+        ok.summary.outcome, "completed",
+        "{}",
+        ok.summary.outcome_reason
+    );
 }

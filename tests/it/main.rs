@@ -7,6 +7,7 @@ mod corridor_checks;
 mod dynamics_checks;
 mod flight_checks;
 mod hardening_checks;
+mod loop_checks;
 mod mutation_checks;
 mod report_checks;
 mod rotor_checks;

@@ -465,9 +465,18 @@ fn report_of_a_demo_scenario_is_self_contained_and_complete() {
         "corridor.csv",
         "schedule.toml",
         "flight.csv",
+        "back-transition/flight.json",
     ] {
         assert!(dir.join(k).is_file(), "{k} not written");
     }
+    // Both directions are flown and shown, each with its outcome (common practice, no
+    // source: a transition is cleared both ways).
+    let flight: String = doc
+        .select(&sel("section#flight"))
+        .flat_map(|e| e.text())
+        .collect();
+    assert!(flight.contains("Back-transition (cruise to hover)"));
+    assert!(flight.matches("outcome").count() >= 2, "{flight}");
     std::fs::remove_dir_all(&dir).unwrap();
 }
 

@@ -384,9 +384,10 @@ fn every_demo_sweep_trims_to_a_tiny_residual_or_says_why_not() {
             schedule: sc.schedule.clone(),
             objective: sc.file.sweep.objective,
             thresholds: sc.file.thresholds.clone(),
-            gains: Some(hoverline::flight::law::FeedbackGains::from_file(
+            gains: Some(hoverline::control::law::FeedbackGains::from_file(
                 &sc.file.flight,
             )),
+            loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
         };
         let r = run_sweep(&sc.vehicle, &atm, &settings, &|| {});
         let w = sc.vehicle.weight_n();

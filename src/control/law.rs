@@ -26,7 +26,7 @@
 //! `k_hd = 2 zeta w + p, k_h = w^2 + 2 zeta w p, k_hI = w^2 p` (pole placement, as in Franklin,
 //! Powell and Emami-Naeini, Feedback Control of Dynamic Systems, ch. 4 and 7). The design takes
 //! the commanded accelerations as achieved; actuator lags and the airframe's own dynamics are
-//! what the loop margins (`crate::loops`) measure.
+//! what the loop margins (`crate::control::loops`) measure.
 //!
 //! Allocation (weighted minimum-norm pseudo-inverse, damped, then redistributed at limits): the
 //! effectiveness of each input on `[a_x, a_h, qdot]` comes from the B matrix of the trim point
