@@ -74,9 +74,6 @@ use crate::sweep::assess;
 use crate::trim::{trim, Condition, Objective, TiltSetting, TrimGuess, TrimRequest, TrimSolution};
 use crate::vehicle::Vehicle;
 
-/// Default pitch attitude limits for tilt vehicles (deg): common practice, no source.
-pub const DEFAULT_PITCH_LIMITS_DEG: (f64, f64) = (-15.0, 20.0);
-
 /// Default step of the transition variable (deg).
 pub const DEFAULT_VALUE_STEP_DEG: f64 = 1.0;
 
@@ -315,13 +312,12 @@ pub struct CorridorSettings {
     pub climb_rad: f64,
     /// Margin thresholds.
     pub thresholds: Thresholds,
-    /// Allowed trimmed pitch attitude (rad) for tilt vehicles; None = any.
-    pub pitch_limits_rad: Option<(f64, f64)>,
+    /// Trim objective where controls are redundant.
+    pub objective: Objective,
 }
 
 /// Default range of the transition variable (rad): the range common to all tilt actuators;
-/// for pitch, -15 deg to 10 deg beyond the attitude that points the strongest rotor group up
-/// (at least 30 deg).
+/// for pitch, the widest range of the vehicle's attitude limits.
 pub fn default_value_range_rad(v: &Vehicle) -> (f64, f64) {
     if v.has_tilt() {
         return v
@@ -331,14 +327,7 @@ pub fn default_value_range_rad(v: &Vehicle) -> (f64, f64) {
                 (l.max(a.min_rad), h.min(a.max_rad))
             });
     }
-    let strongest = v.rotors.iter().max_by(|a, b| {
-        (a.thrust_max_n * a.count as f64).total_cmp(&(b.thrust_max_n * b.count as f64))
-    });
-    let up = strongest.map_or(0.0, |r| std::f64::consts::FRAC_PI_2 - r.mounting_rad);
-    (
-        (-15f64).to_radians(),
-        (up + 10f64.to_radians()).max(30f64.to_radians()),
-    )
+    v.attitude.envelope()
 }
 
 /// Evenly spaced values from `lo` to `hi` (both included when the step divides the span).
@@ -402,12 +391,7 @@ impl CorridorSettings {
             values_rad: values,
             climb_rad: sc.climb_rad,
             thresholds: sc.file.thresholds.clone(),
-            pitch_limits_rad: v.has_tilt().then(|| {
-                (
-                    DEFAULT_PITCH_LIMITS_DEG.0.to_radians(),
-                    DEFAULT_PITCH_LIMITS_DEG.1.to_radians(),
-                )
-            }),
+            objective: sc.file.sweep.objective,
         };
         s.validate()?;
         Ok(s)
@@ -561,6 +545,7 @@ pub fn request(
     speed_mps: f64,
     value_rad: f64,
     climb_rad: f64,
+    objective: Objective,
 ) -> TrimRequest {
     match variable {
         Variable::Tilt => TrimRequest {
@@ -569,7 +554,7 @@ pub fn request(
             tilt: TiltSetting::Fixed(vec![value_rad; v.actuators.len()]),
             pitch_rad: None,
             condition: Condition::Steady,
-            objective: Objective::Power,
+            objective,
         },
         Variable::Pitch => TrimRequest {
             speed_mps,
@@ -577,7 +562,7 @@ pub fn request(
             tilt: TiltSetting::Fixed(v.actuators.iter().map(|a| a.max_rad).collect()),
             pitch_rad: Some(value_rad),
             condition: Condition::HeldPitch,
-            objective: Objective::Power,
+            objective,
         },
     }
 }
@@ -585,29 +570,6 @@ pub fn request(
 /// Normalised margin m / t - 1, or None when the threshold cannot scale it.
 pub fn normalise(margin: f64, threshold: f64) -> Option<f64> {
     (threshold > 1e-12 && margin.is_finite()).then(|| margin / threshold - 1.0)
-}
-
-/// Smallest stall margin (deg) of every surface over the parts whose stall counts
-/// ([`margins::part_counts_for_stall`]: loaded and not in download). Surfaces with no such
-/// part are left out.
-pub fn stall_margins_deg(v: &Vehicle, atm: &Atmosphere, sol: &TrimSolution) -> Vec<(String, f64)> {
-    let e = &sol.evaluation;
-    let w = v.weight_n();
-    let q_inf = 0.5 * atm.density_kg_m3 * e.airspeed_mps * e.airspeed_mps;
-    let mut out = Vec::with_capacity(v.surfaces.len());
-    for (i, s) in v.surfaces.iter().enumerate() {
-        let (pos, neg) = s.polar.stall_angles_rad();
-        let m = e
-            .surface_parts(i)
-            .iter()
-            .filter(|p| margins::part_counts_for_stall(p, s.area_m2, w, q_inf))
-            .map(|p| (pos - p.alpha_rad).min(p.alpha_rad - neg))
-            .fold(None, |a: Option<f64>, b| Some(a.map_or(b, |a| a.min(b))));
-        if let Some(m) = m {
-            out.push((s.name.clone(), m.to_degrees()));
-        }
-    }
-    out
 }
 
 /// Along-path acceleration and deceleration available from the remaining thrust (m/s^2),
@@ -702,7 +664,7 @@ fn untrimmable_limit(v: &Vehicle, atm: &Atmosphere, sol: &TrimSolution) -> (Limi
     {
         return (
             Limit::PitchAttitude,
-            "untrimmable: pitch attitude at its search bound".into(),
+            "untrimmable: pitch attitude at its limit".into(),
         );
     }
     (
@@ -726,7 +688,14 @@ pub fn evaluate_point(
     warm: Option<&TrimGuess>,
     explore: bool,
 ) -> (CorridorPoint, TrimSolution) {
-    let req = request(s.variable, v, speed_mps, value_rad, s.climb_rad);
+    let req = request(
+        s.variable,
+        v,
+        speed_mps,
+        value_rad,
+        s.climb_rad,
+        s.objective,
+    );
     let sol = trim(v, atm, &req, warm, explore);
     let point = classify(v, atm, s, &req, &sol);
     (point, sol)
@@ -766,15 +735,13 @@ pub fn classify(
     p.decel_available_mps2 = Some(a_down);
     p.power_w = Some(sol.evaluation.power_w);
 
-    let mut stall = stall_margins_deg(v, atm, sol);
-    // The derivative model, if any, as margins reports it.
-    stall.extend(
-        rep.surfaces
-            .iter()
-            .skip(v.surfaces.len())
-            .filter(|s| s.loaded)
-            .map(|s| (s.name.clone(), s.stall_margin_deg)),
-    );
+    // Stall margins of the surfaces whose stall alone is unsafe (margins::stall_assessment).
+    let stall: Vec<(String, f64)> = rep
+        .surfaces
+        .iter()
+        .filter(|s| s.in_verdict)
+        .map(|s| (s.name.clone(), s.stall_margin_deg))
+        .collect();
     let (worst_stall, worst_surface) = stall.iter().map(|(n, m)| (*m, n.clone())).fold(
         (None, None),
         |acc: (Option<f64>, Option<String>), (m, n)| {
@@ -897,16 +864,22 @@ pub fn classify(
     }
 
     // Hard limits: the corridor's own pitch limits first, then the physical limits.
-    if let Some((lo, hi)) = s.pitch_limits_rad {
+    {
+        let (lo, hi) = v.pitch_limits_rad(req.speed_mps);
         let th = sol.state.theta_rad;
         if th < lo - 1e-9 || th > hi + 1e-9 {
             p.violations.push(Limit::PitchAttitude);
         }
     }
-    if let (Some(ws), Some(name)) = (worst_stall, &worst_surface) {
-        if ws < 0.0 {
-            p.violations.push(Limit::Stall(name.clone()));
-        }
+    if m.stall_verdict == margins::StallVerdict::Stalled {
+        // Name the surface that stalls: the one with the most stalled load.
+        let name = rep
+            .surfaces
+            .iter()
+            .filter(|s| s.verdict == margins::StallVerdict::Stalled)
+            .max_by(|a, b| a.stalled_share.total_cmp(&b.stalled_share))
+            .map_or_else(|| m.stall_surface.clone(), |s| s.name.clone());
+        p.violations.push(Limit::Stall(name));
     }
     for g in rep.rotors.iter() {
         if g.power_margin < -1e-9 {
@@ -938,10 +911,21 @@ pub fn classify(
         static_margin_pct: m.static_margin_pct,
         time_to_double_s: m.time_to_double_s,
     });
+    // Inside means trimmed, no hard limit crossed and every normalised margin >= 0.
+    let hard = !p.violations.is_empty();
+    if !hard && p.smallest_margin.is_some_and(|n| n < 0.0) {
+        if let Some(l) = p.limiting_margin.clone() {
+            p.violations.push(l);
+        }
+    }
     p.inside = p.violations.is_empty();
     if let Some(l) = p.violations.first() {
         p.outside_reason = Some(l.clone());
-        p.reason = outside_text(l, &p, sol);
+        if hard {
+            p.reason = outside_text(l, &p, sol);
+        } else {
+            p.reason = format!("below its threshold: {}", p.reason);
+        }
     }
     p
 }
@@ -1141,7 +1125,10 @@ pub fn compute(
         speeds_mps: s.speeds_mps.clone(),
         values_deg: s.values_rad.iter().map(|x| x.to_degrees()).collect(),
         climb_deg: s.climb_rad.to_degrees(),
-        pitch_limits_deg: s.pitch_limits_rad.map(|(a, b)| (a.to_degrees(), b.to_degrees())),
+        pitch_limits_deg: {
+            let (a, b) = v.attitude.envelope();
+            Some((a.to_degrees(), b.to_degrees()))
+        },
         points,
         boundaries: Vec::new(),
         guesses,

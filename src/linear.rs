@@ -187,7 +187,9 @@ pub struct Mode {
     /// Eigenvector magnitudes in u, w, q, theta, scaled so the largest of
     /// (|u|/V, |w|/V, |q| s, |theta|) is 1 (V = max(speed, 1 m/s)).
     pub shape: [f64; 4],
-    /// MIL-F-8785C level indicated for wingborne modes (Category B), never a verdict.
+    /// MIL-F-8785C level indicated for wingborne modes (Category B), never a verdict: 1 to
+    /// 3, or 4 for worse than level 3 (the specification defines levels 1 to 3 only;
+    /// [`level_label`] gives the words).
     pub level_8785c: Option<u8>,
 }
 
@@ -358,38 +360,67 @@ pub fn modes(a: &Matrix4<f64>, speed_mps: f64, wingborne: bool) -> Vec<Mode> {
         })
         .collect();
     if wingborne {
-        let osc: Vec<usize> = (0..out.len())
-            .filter(|&i| out[i].imag_rad_s > 1e-9)
-            .collect();
-        match osc.len() {
-            2 => {
-                let (lo, hi) = (osc[0], osc[1]);
-                out[lo].name = "phugoid".into();
-                out[lo].level_8785c = Some(phugoid_level(
-                    out[lo].damping_ratio,
-                    out[lo].time_to_double_s,
-                ));
-                out[hi].name = "short-period".into();
-                out[hi].level_8785c = Some(short_period_level_b(out[hi].damping_ratio));
-            }
-            1 => {
-                // One pair: the slower, speed-dominated pair is the phugoid, a pitch-dominated one the short period.
-                let i = osc[0];
-                if out[i].shape[0] >= out[i].shape[2].max(out[i].shape[3]) * 0.5
-                    && out[i].natural_freq_rad_s < 1.0
-                {
-                    out[i].name = "phugoid".into();
-                    out[i].level_8785c =
-                        Some(phugoid_level(out[i].damping_ratio, out[i].time_to_double_s));
-                } else {
-                    out[i].name = "short-period".into();
-                    out[i].level_8785c = Some(short_period_level_b(out[i].damping_ratio));
-                }
-            }
-            _ => {}
-        }
+        name_wingborne_modes(&mut out);
     }
     out
+}
+
+/// Frequency ratio between the short-period and the phugoid below which the two are not
+/// told apart by frequency (common practice, no source: textbook aircraft separate them by
+/// an order of magnitude; 3 is a lenient floor).
+const MODE_SEPARATION: f64 = 3.0;
+
+/// Name the oscillatory pairs of a wingborne point as the textbooks do, only where their
+/// frequencies separate and their shapes agree: the slow, speed-dominated pair is the phugoid,
+/// the fast, pitch- or heave-dominated pair the short period (Etkin and Reid, Dynamics of
+/// Flight, ch. 6; Nelson, Flight Stability and Automatic Control, ch. 4). Anything else keeps
+/// the name of what it moves.
+fn name_wingborne_modes(out: &mut [Mode]) {
+    let mut osc: Vec<usize> = (0..out.len())
+        .filter(|&i| out[i].imag_rad_s > 1e-9)
+        .collect();
+    osc.sort_by(|&a, &b| {
+        out[a]
+            .natural_freq_rad_s
+            .total_cmp(&out[b].natural_freq_rad_s)
+    });
+    let speed_dominated = |m: &Mode| m.shape[0] >= 0.5 * m.shape[1].max(m.shape[2]);
+    let pitch_dominated = |m: &Mode| m.shape[1].max(m.shape[2]) >= m.shape[0];
+    let (slow, fast) = match osc.len() {
+        2 if out[osc[1]].natural_freq_rad_s >= MODE_SEPARATION * out[osc[0]].natural_freq_rad_s => {
+            (Some(osc[0]), Some(osc[1]))
+        }
+        1 => {
+            let m = &out[osc[0]];
+            if speed_dominated(m) && m.natural_freq_rad_s < 1.0 {
+                (Some(osc[0]), None)
+            } else if pitch_dominated(m) && m.natural_freq_rad_s >= 1.0 {
+                (None, Some(osc[0]))
+            } else {
+                (None, None)
+            }
+        }
+        _ => (None, None),
+    };
+    if let Some(i) = slow.filter(|&i| speed_dominated(&out[i])) {
+        out[i].name = "phugoid".into();
+        out[i].level_8785c = Some(phugoid_level(out[i].damping_ratio, out[i].time_to_double_s));
+    }
+    if let Some(i) = fast.filter(|&i| pitch_dominated(&out[i])) {
+        out[i].name = "short-period".into();
+        out[i].level_8785c = Some(short_period_level_b(out[i].damping_ratio));
+    }
+}
+
+/// Words for a MIL-F-8785C level as returned by [`phugoid_level`] and
+/// [`short_period_level_b`]: "level 1" to "level 3", or "worse than level 3" (4).
+pub fn level_label(level: u8) -> &'static str {
+    match level {
+        1 => "level 1",
+        2 => "level 2",
+        3 => "level 3",
+        _ => "worse than level 3",
+    }
 }
 
 fn describe(l: Complex<f64>, shape: &[f64; 4]) -> String {

@@ -86,7 +86,8 @@ pub struct SweepFile {
     /// Flight-path angle, climbing positive (deg).
     #[serde(default)]
     pub climb_deg: f64,
-    /// What trim minimises where controls outnumber conditions: "power" (default) or
+    /// What trim minimises where controls outnumber conditions: "reserve" (default: least
+    /// power keeping control and stall reserves), "power" (least power alone) or
     /// "stall-margin" (largest smallest stall margin).
     #[serde(default)]
     pub objective: crate::trim::Objective,
@@ -125,8 +126,11 @@ pub struct ScheduleFile {
 #[derive(Debug, Clone, Deserialize, Serialize, PartialEq)]
 #[serde(deny_unknown_fields, default)]
 pub struct Thresholds {
-    /// Smallest stall margin of any surface part (deg).
+    /// Smallest stall margin of any surface part whose stall alone is unsafe (deg).
     pub stall_margin_deg: f64,
+    /// Stalled load share at which stall makes a point unsafe (-): sum of q S of the stalled
+    /// wing and tail parts over the weight.
+    pub stalled_load_share: f64,
     /// Smallest thrust margin of any rotor group (fraction of thrust available).
     pub thrust_margin: f64,
     /// Smallest power margin of any rotor group (fraction of power available).
@@ -150,6 +154,9 @@ impl Default for Thresholds {
         // Common practice, no source: typical preliminary-design allowances.
         Thresholds {
             stall_margin_deg: 3.0,
+            // Our choice: a twentieth of the weight on separated flow changes the trim and the
+            // handling noticeably; below it, stall is reported as advisory.
+            stalled_load_share: 0.05,
             thrust_margin: 0.15,
             power_margin: 0.10,
             pitch_accel_rad_s2: 0.5,
@@ -579,6 +586,16 @@ pub fn build_schedule(s: &ScheduleFile, v: &Vehicle, p: &KeyPath) -> Result<Sche
             "use mode = \"pitch\" for a tail-sitter, or \"free\"",
         ));
     }
+    if s.mode == ScheduleMode::Pitch && v.has_tilt() {
+        return Err(Invalid::new(
+            p.key("mode"),
+            format!(
+                "vehicle '{}' has tilt actuators, so its transition variable is tilt, not pitch",
+                v.name
+            ),
+            "use mode = \"tilt\" with a tilt table, or \"free\" to let the trim choose the tilt",
+        ));
+    }
     if s.speed_mps.len() < 2 || s.speed_mps.len() != s.value_deg.len() {
         return Err(Invalid::new(
             p.key("speed_mps"),
@@ -768,6 +785,14 @@ fn build(
                 "give a positive threshold; a threshold of zero or below would switch its check off",
             ));
         }
+    }
+    let share = finite(tp.key("stalled_load_share"), th.stalled_load_share)?;
+    if !(crate::margins::LOADED_PART_SHARE..=1.0).contains(&share) {
+        return Err(Invalid::new(
+            tp.key("stalled_load_share"),
+            format!("must lie in 0.005..1, got {share}"),
+            "a fraction of the weight, e.g. 0.05 for 5 %; parts below 0.005 are never counted",
+        ));
     }
     let tr = &file.transition;
     let trp = root.key("transition");

@@ -778,7 +778,7 @@ fn evaluate_free(
             let mut out = Vec::with_capacity(chunk.len());
             for (n, &i) in chunk.iter().enumerate() {
                 let speed = c.speeds_mps[i];
-                let mut req = request(s.variable, v, speed, 0.0, s.climb_rad);
+                let mut req = request(s.variable, v, speed, 0.0, s.climb_rad, s.objective);
                 req.condition = Condition::Steady;
                 req.pitch_rad = None;
                 if s.variable == Variable::Tilt {

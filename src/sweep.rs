@@ -14,7 +14,7 @@ use serde::Serialize;
 use crate::atmosphere::Atmosphere;
 use crate::dynamics::STATE_NAMES;
 use crate::linear::{linearise, modes, LinearModel, Mode};
-use crate::margins::{margins, Margins, WINGBORNE_LIFT_SHARE};
+use crate::margins::{margins, Margins};
 use crate::scenario::{Schedule, Thresholds};
 use crate::trim::{trim, Condition, Objective, TiltSetting, TrimGuess, TrimRequest, TrimSolution};
 use crate::vehicle::Vehicle;
@@ -119,6 +119,8 @@ pub struct PointReport {
     /// Kinds of the reasons, for grouping into bands.
     #[serde(skip)]
     pub reason_kinds: Vec<String>,
+    /// Notes that do not make the point unsafe (partial separation, separation on a body).
+    pub advisories: Vec<String>,
     /// Limits active at the solution.
     pub active_limits: Vec<String>,
     /// Pitch attitude (deg).
@@ -262,6 +264,7 @@ pub fn assess(
         trimmed,
         reasons: Vec::new(),
         reason_kinds: Vec::new(),
+        advisories: Vec::new(),
         active_limits: sol.active_limits.clone(),
         pitch_deg: None,
         alpha_deg: None,
@@ -305,8 +308,21 @@ pub fn assess(
     }
     let e = &sol.evaluation;
     let share = crate::margins::lift_share(v, &sol.state, e);
-    let ms = modes(&lin.a, req.speed_mps, share >= WINGBORNE_LIFT_SHARE);
-    let m = margins(v, atm, &sol.state, &sol.controls, e, &lin, &ms);
+    let ms = modes(
+        &lin.a,
+        req.speed_mps,
+        crate::margins::wingborne(v, atm.density_kg_m3, req.speed_mps, share),
+    );
+    let m = margins(
+        v,
+        atm,
+        &sol.state,
+        &sol.controls,
+        e,
+        &lin,
+        &ms,
+        th.stalled_load_share,
+    );
     report.pitch_deg = Some(sol.state.theta_rad.to_degrees());
     // Undefined without airspeed.
     report.alpha_deg = (e.airspeed_mps > 1e-9).then(|| e.alpha_rad.to_degrees());
@@ -331,6 +347,7 @@ pub fn assess(
     let (reasons, kinds) = unsafe_reasons(&m, th);
     report.reasons = reasons;
     report.reason_kinds = kinds;
+    report.advisories = advisories(&m);
     report.margins = Some(m);
     report.modes = ms;
     report.a_matrix = Some(lin.a_rows());
@@ -377,21 +394,7 @@ fn actuator_values(v: &Vehicle, sol: &TrimSolution, m: &Margins) -> Vec<Actuator
 pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>) {
     let mut r = Vec::new();
     let mut k = Vec::new();
-    for s in m.surfaces.iter().filter(|s| s.loaded) {
-        if s.stall_margin_deg < 0.0 {
-            r.push(format!(
-                "'{}' stalled ({} at alpha {:.1} deg; stall at {:.1} / {:.1} deg)",
-                s.name, s.critical_part, s.critical_alpha_deg, s.stall_pos_deg, s.stall_neg_deg
-            ));
-            k.push(format!("stall of '{}'", s.name));
-        } else if s.stall_margin_deg < th.stall_margin_deg {
-            r.push(format!(
-                "stall margin of '{}' {:.1} deg (threshold {:.1} deg)",
-                s.name, s.stall_margin_deg, th.stall_margin_deg
-            ));
-            k.push(format!("stall margin of '{}'", s.name));
-        }
-    }
+    stall_reasons(m, th, &mut r, &mut k);
     for g in &m.rotors {
         if g.thrust_n > 0.0 && g.thrust_margin < th.thrust_margin {
             r.push(format!(
@@ -459,6 +462,66 @@ pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>
     (r, k)
 }
 
+/// Stall reasons under the three-part rule of [`crate::margins::stall_assessment`].
+fn stall_reasons(m: &Margins, th: &Thresholds, r: &mut Vec<String>, k: &mut Vec<String>) {
+    use crate::margins::StallVerdict;
+    for s in &m.surfaces {
+        if s.verdict == StallVerdict::Stalled {
+            r.push(stall_text(s));
+            k.push(format!("stall of '{}'", s.name));
+        } else if s.in_verdict && s.stall_margin_deg < th.stall_margin_deg {
+            r.push(format!(
+                "stall margin of '{}' {:.1} deg ({} at alpha {:.1} deg, stall at {:.1} deg; threshold {:.1} deg)",
+                s.name,
+                s.stall_margin_deg,
+                s.critical_part,
+                s.critical_alpha_deg,
+                s.stall_angle_deg,
+                th.stall_margin_deg
+            ));
+            k.push(format!("stall margin of '{}'", s.name));
+        }
+    }
+    if m.stalled_load_share >= th.stalled_load_share {
+        r.push(format!(
+            "stalled load share {:.1} % of the weight (threshold {:.1} %)",
+            100.0 * m.stalled_load_share,
+            100.0 * th.stalled_load_share
+        ));
+        k.push("stalled load share".into());
+    }
+}
+
+fn stall_text(s: &crate::margins::SurfaceMargin) -> String {
+    format!(
+        "'{}' stalled: {} at alpha {:.1} deg, {:.1} deg beyond its stall angle {:.1} deg",
+        s.name,
+        s.critical_part,
+        s.critical_alpha_deg,
+        -s.stall_margin_deg.min(0.0),
+        s.stall_angle_deg
+    )
+}
+
+/// Advisory notes of a trimmed point: stall that does not make it unsafe on its own.
+pub fn advisories(m: &Margins) -> Vec<String> {
+    use crate::margins::StallVerdict;
+    m.surfaces
+        .iter()
+        .filter(|s| s.verdict == StallVerdict::Advisory)
+        .map(|s| {
+            format!(
+                "'{}' partly separated ({:.1} % of the weight on stalled parts; {} at alpha {:.1} deg, stall at {:.1} deg)",
+                s.name,
+                100.0 * s.stalled_share,
+                s.critical_part,
+                s.critical_alpha_deg,
+                s.stall_angle_deg
+            )
+        })
+        .collect()
+}
+
 /// Group consecutive flagged points into bands; each band lists the distinct kinds.
 pub fn bands_of(speeds: &[f64], flags: &[Vec<String>]) -> Vec<Band> {
     let mut out: Vec<Band> = Vec::new();
@@ -517,11 +580,17 @@ pub fn run_sweep(
                 // A stalled surface hints at a second branch (a tilt-wing near stall, a
                 // tail-sitter at low speed): try every start and keep the best.
                 // Inside a stalled run, look again on entry and every fourth point.
-                let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
+                let stalled = rep
+                    .margins
+                    .as_ref()
+                    .is_some_and(|m| m.stall_verdict != crate::margins::StallVerdict::Attached);
                 if !explore && (!sol.trimmed() || (stalled && stalled_run % 4 == 0)) {
                     (rep, sol) = solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), true);
                 }
-                let stalled = rep.margins.as_ref().is_some_and(|m| m.stall_deg < 0.0);
+                let stalled = rep
+                    .margins
+                    .as_ref()
+                    .is_some_and(|m| m.stall_verdict != crate::margins::StallVerdict::Attached);
                 stalled_run = if stalled { stalled_run + 1 } else { 0 };
                 if let Some(g) = &s.gains {
                     add_loop_margins(v, atm, &req, &sol, &s.thresholds, g, &mut rep);
@@ -556,26 +625,28 @@ fn stall_exposure(v: &Vehicle, points: &[PointReport], th: &Thresholds) -> Vec<S
     names
         .into_iter()
         .map(|name| {
-            let margin = |p: &PointReport| {
-                p.surfaces
-                    .iter()
-                    .find(|s| s.name == name && s.loaded)
-                    .map(|s| (s.stall_margin_deg, s.critical_part.clone()))
-            };
+            let surface = |p: &PointReport| p.surfaces.iter().find(|s| s.name == name).cloned();
             let stalled: Vec<Vec<String>> = points
                 .iter()
-                .map(|p| match margin(p) {
-                    Some((m, part)) if m < 0.0 => vec![format!("stalled ({part})")],
+                .map(|p| match surface(p) {
+                    Some(s) if s.verdict == crate::margins::StallVerdict::Stalled => {
+                        vec![format!("stalled ({})", s.critical_part)]
+                    }
                     _ => vec![],
                 })
                 .collect();
             let near: Vec<Vec<String>> = points
                 .iter()
-                .map(|p| match margin(p) {
-                    Some((m, part)) if m < th.stall_margin_deg => vec![format!(
-                        "margin below {:.1} deg ({part})",
-                        th.stall_margin_deg
-                    )],
+                .map(|p| match surface(p) {
+                    Some(s)
+                        if s.verdict == crate::margins::StallVerdict::Stalled
+                            || (s.in_verdict && s.stall_margin_deg < th.stall_margin_deg) =>
+                    {
+                        vec![format!(
+                            "margin below {:.1} deg ({})",
+                            th.stall_margin_deg, s.critical_part
+                        )]
+                    }
                     _ => vec![],
                 })
                 .collect();

@@ -36,11 +36,69 @@ pub const MAX_UNKNOWNS: usize = 24;
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Objective {
-    /// Total shaft power of all rotor groups.
+    /// Total shaft power, plus a penalty that keeps redundant controls off their stops and
+    /// the surfaces off stall where another solution costs a little more power
+    /// ([`reserve_penalty`]).
     #[default]
+    Reserve,
+    /// Total shaft power of all rotor groups alone: redundant controls may park at a stop.
     Power,
-    /// Largest smallest stall margin over all surface parts.
+    /// Largest smallest stall margin over the parts whose stall alone is unsafe.
     StallMargin,
+}
+
+/// Share of a control's travel the reserve objective keeps free at each end (common
+/// practice, no source).
+pub const RESERVE_TRAVEL_SHARE: f64 = 0.15;
+
+/// Stall margin the reserve objective keeps on the parts whose stall alone is unsafe (rad;
+/// 3 deg, the default threshold).
+pub const RESERVE_STALL_MARGIN_RAD: f64 = 3.0 * std::f64::consts::PI / 180.0;
+
+/// Weight of one control parked at its stop, in units of the vehicle's ideal hover power
+/// (our choice: a few per cent of power buys the reserve back).
+const RESERVE_STOP_WEIGHT: f64 = 0.03;
+
+/// Weight of a surface at its stall angle, in units of the ideal hover power (our choice).
+const RESERVE_STALL_WEIGHT: f64 = 0.05;
+
+/// Weight pulling a control without effect to mid-travel (tiny; only breaks the tie).
+const RESERVE_CENTRE_WEIGHT: f64 = 1e-4;
+
+/// Weight of a pitch attitude 10 deg off level, in units of the ideal hover power (our
+/// choice: where pitch is redundant, as with tilt free, a tilt vehicle flies near level
+/// unless that costs more than about 1 % of power).
+const RESERVE_LEVEL_WEIGHT: f64 = 0.01;
+
+/// Stalled load share the trim's stall terms use (the default scenario threshold).
+pub const TRIM_STALLED_SHARE: f64 = 0.05;
+
+/// The reserve penalty (dimensionless, in units of ideal hover power): for the pitch and each
+/// elevator unknown at normalised position u in [0, 1] of its travel,
+/// `W_stop (max(0, r - d) / r)^2 + W_centre (2u - 1)^2` with d = min(u, 1 - u) and
+/// r = [`RESERVE_TRAVEL_SHARE`]; plus `W_stall (max(0, m0 - m) / m0)^2` on the smallest stall
+/// margin m of the parts whose stall alone is unsafe, m0 = [`RESERVE_STALL_MARGIN_RAD`];
+/// plus `W_level (theta / 10 deg)^2` on the pitch attitude theta (rad), if it is an unknown.
+/// Thrusts and tilts are left out: a thrust's reserve is the thrust margin (and a pusher idle
+/// in hover is not a problem); a tilt is the slow transition variable, whose hover setting
+/// sits near its stop by design.
+pub fn reserve_penalty(travel: &[f64], stall_margin_rad: f64, pitch_rad: Option<f64>) -> f64 {
+    let mut j = pitch_rad.map_or(0.0, |t| {
+        let x = t / 10f64.to_radians();
+        RESERVE_LEVEL_WEIGHT * x * x
+    });
+    for &u in travel {
+        let d = u.min(1.0 - u);
+        let short = (RESERVE_TRAVEL_SHARE - d).max(0.0) / RESERVE_TRAVEL_SHARE;
+        j += RESERVE_STOP_WEIGHT * short * short
+            + RESERVE_CENTRE_WEIGHT * (2.0 * u - 1.0) * (2.0 * u - 1.0);
+    }
+    if stall_margin_rad.is_finite() {
+        let short =
+            (RESERVE_STALL_MARGIN_RAD - stall_margin_rad).max(0.0) / RESERVE_STALL_MARGIN_RAD;
+        j += RESERVE_STALL_WEIGHT * short * short;
+    }
+    j
 }
 
 /// How the tilt actuators are set.
@@ -174,10 +232,12 @@ impl<'a> Problem<'a> {
         let mut hi = Vec::new();
         let mut base = Controls::zeros(v);
         if req.condition == Condition::Steady {
+            // The vehicle's attitude limits at this speed bound the pitch unknown.
+            let (p_lo, p_hi) = v.pitch_limits_rad(req.speed_mps);
             kinds.push(UnknownKind::Pitch);
             scale.push(1.0);
-            lo.push((-90f64).to_radians());
-            hi.push(135f64.to_radians());
+            lo.push(p_lo);
+            hi.push(p_hi);
         }
         for (g, r) in v.rotors.iter().enumerate() {
             kinds.push(UnknownKind::Thrust(g));
@@ -295,6 +355,24 @@ impl<'a> Problem<'a> {
         };
         let objective = match self.req.objective {
             Objective::Power => self.eval.power_w / self.power_scale,
+            Objective::Reserve => {
+                let mut travel = [0.0; MAX_UNKNOWNS];
+                let mut n = 0;
+                let mut pitch = None;
+                for (i, k) in self.kinds.iter().enumerate() {
+                    if *k == UnknownKind::Pitch {
+                        pitch = Some(z[i] * self.scale[i]);
+                    }
+                    let reserved = matches!(k, UnknownKind::Pitch | UnknownKind::Elevator(_));
+                    if !reserved || self.hi[i] - self.lo[i] < 1e-12 {
+                        continue;
+                    }
+                    travel[n] = ((z[i] - self.lo[i]) / (self.hi[i] - self.lo[i])).clamp(0.0, 1.0);
+                    n += 1;
+                }
+                let stall = smallest_stall_margin_rad(self.v, self.atm.density_kg_m3, &self.eval);
+                self.eval.power_w / self.power_scale + reserve_penalty(&travel[..n], stall, pitch)
+            }
             Objective::StallMargin => {
                 -smallest_stall_margin_rad(self.v, self.atm.density_kg_m3, &self.eval)
             }
@@ -311,20 +389,12 @@ fn norm_inf(r: &[f64; 3], m: usize) -> f64 {
     r[..m].iter().fold(0.0, |a, &b| a.max(b.abs()))
 }
 
-/// Smallest stall margin (rad) over the surface parts whose stall counts
-/// ([`crate::margins::part_counts_for_stall`]), positive when unstalled.
+/// Smallest stall margin (rad) over the parts whose stall alone is unsafe
+/// ([`crate::margins::stall_assessment`] at [`TRIM_STALLED_SHARE`]), and of the derivative
+/// model; infinite when none carries load.
 pub fn smallest_stall_margin_rad(v: &Vehicle, density_kg_m3: f64, e: &Evaluation) -> f64 {
-    let mut best = f64::INFINITY;
-    let w = v.weight_n();
-    let q_inf = 0.5 * density_kg_m3 * e.airspeed_mps * e.airspeed_mps;
-    for (i, s) in v.surfaces.iter().enumerate() {
-        let (pos, neg) = s.polar.stall_angles_rad();
-        for p in e.surface_parts(i) {
-            if crate::margins::part_counts_for_stall(p, s.area_m2, w, q_inf) {
-                best = best.min((pos - p.alpha_rad).min(p.alpha_rad - neg));
-            }
-        }
-    }
+    let mut best = crate::margins::stall_assessment(v, density_kg_m3, e, TRIM_STALLED_SHARE)
+        .verdict_margin_rad;
     if let (Some(d), Some(dl)) = (&v.derivatives, &e.derivatives) {
         best = best
             .min(d.alpha_stall_pos_rad - dl.alpha_rad)
@@ -727,8 +797,21 @@ pub fn cold_guesses(v: &Vehicle, req: &TrimRequest) -> Vec<TrimGuess> {
     match &req.tilt {
         TiltSetting::Fixed(t) => base.tilt_rad.clone_from(t),
         TiltSetting::Free => {
+            // Thrust up (tilt 90 deg) below about 1.5 times the ideal hover induced velocity
+            // of the whole vehicle, where the wing cannot carry the weight yet; mid-travel
+            // above it (the restoration finds the rest).
+            let area: f64 = v
+                .rotors
+                .iter()
+                .map(|r| r.count as f64 * r.disk_area_m2())
+                .sum();
+            let v_h = (w / (2.0 * 1.225 * area)).sqrt();
             for (a, act) in v.actuators.iter().enumerate() {
-                base.tilt_rad[a] = 0.5 * (act.min_rad + act.max_rad);
+                base.tilt_rad[a] = if req.speed_mps < 1.5 * v_h {
+                    std::f64::consts::FRAC_PI_2.clamp(act.min_rad, act.max_rad)
+                } else {
+                    0.5 * (act.min_rad + act.max_rad)
+                };
             }
         }
     }
@@ -818,7 +901,9 @@ pub fn trim(
                 break;
             }
             iterations += match req.objective {
-                Objective::Power => optimise_gradient(&mut p, &mut z, &mut f, 30),
+                Objective::Power | Objective::Reserve => {
+                    optimise_gradient(&mut p, &mut z, &mut f, 30)
+                }
                 Objective::StallMargin => optimise_nelder_mead(&mut p, &mut z, &mut f),
             };
             // Check power at this solution; cap thrust where power is short and solve again.
@@ -876,7 +961,7 @@ pub fn trim(
         if !(at_lo || at_hi) {
             continue;
         }
-        active.push(limit_name(v, *kind, at_hi, &caps));
+        active.push(limit_name(v, req.speed_mps, *kind, at_hi, &caps));
     }
     let reasons = if converged {
         Vec::new()
@@ -907,7 +992,7 @@ pub fn trim(
         residual_m_nm: v.pitch_inertia_kg_m2 * d[2],
         path_accel_mps2: path_accel,
         objective_value: match req.objective {
-            Objective::Power => p.eval.power_w,
+            Objective::Power | Objective::Reserve => p.eval.power_w,
             Objective::StallMargin => {
                 smallest_stall_margin_rad(v, atm.density_kg_m3, &p.eval).to_degrees()
             }
@@ -925,12 +1010,22 @@ fn power_ok(v: &Vehicle, e: &Evaluation) -> bool {
         .all(|(r, l)| l.performance.shaft_power_w <= r.power_max_w * (1.0 + 1e-6))
 }
 
-fn limit_name(v: &Vehicle, kind: UnknownKind, at_hi: bool, caps: &[Option<f64>]) -> String {
+fn limit_name(
+    v: &Vehicle,
+    speed_mps: f64,
+    kind: UnknownKind,
+    at_hi: bool,
+    caps: &[Option<f64>],
+) -> String {
     match kind {
-        UnknownKind::Pitch => format!(
-            "pitch attitude at its {} search bound",
-            if at_hi { "upper" } else { "lower" }
-        ),
+        UnknownKind::Pitch => {
+            let (lo, hi) = v.pitch_limits_rad(speed_mps);
+            format!(
+                "pitch attitude at its {} limit ({:.1} deg)",
+                if at_hi { "upper" } else { "lower" },
+                if at_hi { hi } else { lo }.to_degrees()
+            )
+        }
         UnknownKind::Thrust(g) => {
             let r = &v.rotors[g];
             if at_hi {

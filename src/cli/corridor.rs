@@ -34,38 +34,31 @@ pub struct GridArgs {
     /// Step of the transition variable (deg; default 1)
     #[arg(long, value_name = "DEG")]
     value_step: Option<f64>,
-    /// Lowest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    /// Lowest pitch attitude allowed in every trim, replacing the vehicle's limits (deg)
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
     pitch_min: Option<f64>,
-    /// Highest trimmed pitch attitude allowed inside the corridor of a tilt vehicle (deg)
+    /// Highest pitch attitude allowed in every trim, replacing the vehicle's limits (deg)
     #[arg(long, value_name = "DEG", allow_hyphen_values = true)]
     pitch_max: Option<f64>,
 }
 
-/// Grid settings from the scenario and the grid flags.
-pub(super) fn settings(sc: &Scenario, g: &GridArgs) -> Result<CorridorSettings, CliError> {
-    let (pitch_min, pitch_max) = (g.pitch_min, g.pitch_max);
-    let mut s = CorridorSettings::for_scenario(sc, g.speed_step, g.value_step)
-        .map_err(|e| CliError::Usage(format!("--speed-step / --value-step: {e}")))?;
-    if let Some((lo, hi)) = s.pitch_limits_rad.as_mut() {
-        if let Some(m) = pitch_min {
-            *lo = m.to_radians();
-        }
-        if let Some(m) = pitch_max {
-            *hi = m.to_radians();
-        }
-        if !(lo.is_finite() && hi.is_finite() && *hi > *lo) {
+/// Grid settings from the scenario and the grid flags. `--pitch-min` / `--pitch-max` replace
+/// the vehicle's attitude limits for this run (in every trim, not only in the corridor).
+pub(super) fn settings(sc: &mut Scenario, g: &GridArgs) -> Result<CorridorSettings, CliError> {
+    if g.pitch_min.is_some() || g.pitch_max.is_some() {
+        let (lo, hi) = sc.vehicle.attitude.envelope();
+        let lo = g.pitch_min.map_or(lo, f64::to_radians);
+        let hi = g.pitch_max.map_or(hi, f64::to_radians);
+        let ok = |x: f64| x.is_finite() && (-90f64..=135.0).contains(&x.to_degrees());
+        if !(ok(lo) && ok(hi) && hi > lo) {
             return Err(CliError::Usage(
-                "--pitch-min / --pitch-max: the range is empty\n  hint: give --pitch-min below --pitch-max".into(),
+                "--pitch-min / --pitch-max: the range is empty or outside -90..135 deg\n  hint: give --pitch-min below --pitch-max".into(),
             ));
         }
-    } else if pitch_min.is_some() || pitch_max.is_some() {
-        return Err(CliError::Usage(format!(
-            "--pitch-min / --pitch-max apply to tilt vehicles; '{}' has no tilt actuator and uses pitch as its grid\n  hint: leave them out",
-            sc.vehicle.name
-        )));
+        sc.vehicle.attitude = hoverline::vehicle::AttitudeLimits::constant(lo, hi, true);
     }
-    Ok(s)
+    CorridorSettings::for_scenario(sc, g.speed_step, g.value_step)
+        .map_err(|e| CliError::Usage(format!("--speed-step / --value-step: {e}")))
 }
 
 /// Compute a corridor with a progress bar on stderr.
@@ -174,8 +167,8 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
 
 /// Run `corridor`.
 pub fn run(a: CorridorArgs) -> Result<(), CliError> {
-    let sc = load_scenario(&a.scenario)?;
-    let s = settings(&sc, &a.grid)?;
+    let mut sc = load_scenario(&a.scenario)?;
+    let s = settings(&mut sc, &a.grid)?;
     let c = compute_with_bar(&sc, &s)?;
     let dir = a.out.unwrap_or_else(|| sc.output_dir());
     let files = write_corridor(&dir, &sc, &c)?;

@@ -54,7 +54,7 @@ pub fn run(a: FlyArgs) -> Result<(), CliError> {
         speeds_mps: sc.speeds_mps.clone(),
         climb_rad: sc.climb_rad,
         schedule: schedule.clone(),
-        objective: Objective::Power,
+        objective: Objective::Reserve,
         thresholds: sc.file.thresholds.clone(),
         gains: None,
     };

@@ -189,11 +189,11 @@ pub fn run(a: ReportArgs) -> Result<(), CliError> {
     // 4. The hover-to-cruise flight; its feedforward table is trimmed for least power, as in
     // `hoverline fly`.
     let power_sweep;
-    let ff_sweep = if settings.objective == Objective::Power {
+    let ff_sweep = if settings.objective != Objective::StallMargin {
         &sweep
     } else {
         let s2 = SweepSettings {
-            objective: Objective::Power,
+            objective: Objective::Reserve,
             ..settings.clone()
         };
         let b = bar(s2.speeds_mps.len() as u64, "4/4 flight trim", "speeds");

@@ -35,8 +35,8 @@ pub struct ScheduleArgs {
 
 /// Run `schedule`.
 pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
-    let sc = load_scenario(&a.scenario)?;
-    let s = settings(&sc, &a.grid)?;
+    let mut sc = load_scenario(&a.scenario)?;
+    let s = settings(&mut sc, &a.grid)?;
     let mut ss = ScheduleSettings::for_scenario(&sc);
     if let Some(k) = a.knot_spacing {
         if !(k.is_finite() && k > 0.0) {

@@ -32,7 +32,7 @@ pub struct TrimArgs {
     #[arg(long, default_value_t = 0.0, allow_hyphen_values = true)]
     temperature_offset_k: f64,
     /// What to minimise where controls outnumber conditions
-    #[arg(long, value_enum, default_value_t = ObjectiveArg::Power)]
+    #[arg(long, value_enum, default_value_t = ObjectiveArg::Reserve)]
     objective: ObjectiveArg,
     /// Print the point as JSON
     #[arg(long)]
@@ -42,7 +42,9 @@ pub struct TrimArgs {
 /// Trim objective on the command line.
 #[derive(Debug, Clone, Copy, clap::ValueEnum)]
 pub enum ObjectiveArg {
-    /// Least total shaft power
+    /// Least total shaft power, keeping redundant controls off their stops and surfaces off stall
+    Reserve,
+    /// Least total shaft power alone (redundant controls may park at a stop)
     Power,
     /// Largest smallest stall margin
     StallMargin,
@@ -51,6 +53,7 @@ pub enum ObjectiveArg {
 impl From<ObjectiveArg> for Objective {
     fn from(o: ObjectiveArg) -> Self {
         match o {
+            ObjectiveArg::Reserve => Objective::Reserve,
             ObjectiveArg::Power => Objective::Power,
             ObjectiveArg::StallMargin => Objective::StallMargin,
         }

@@ -470,14 +470,15 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
     let mut panels = Vec::new();
 
     let mut stall = ctx.panel("stall margin", "stall margin (deg)");
-    // A surface part with too little dynamic pressure to carry load is reported but its stall
-    // is not counted by the sweep: show those points apart, with the same colour.
+    // A surface whose stall alone does not make a point unsafe (no immersed wing part, no
+    // loaded tail part, no part carrying the stalled-load-share threshold) is shown apart,
+    // with the same colour.
     for (k, n) in ctx.surface_names().iter().enumerate() {
         let margin_if = |loaded: bool| {
             move |p: &PointReport| {
                 p.surfaces
                     .iter()
-                    .find(|s| s.name == *n && s.loaded == loaded)
+                    .find(|s| s.name == *n && s.in_verdict == loaded)
                     .map(|s| s.stall_margin_deg)
             }
         };
@@ -485,7 +486,7 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
             .series
             .push(ctx.series(format!("'{n}'"), data_style(k), margin_if(true)));
         let unloaded = ctx.series(
-            format!("'{n}' not loaded (not counted)"),
+            format!("'{n}' advisory only"),
             data_style(k) + PARTNER,
             margin_if(false),
         );
@@ -726,6 +727,7 @@ mod tests {
             trimmed,
             reasons: Vec::new(),
             reason_kinds: Vec::new(),
+            advisories: Vec::new(),
             active_limits: Vec::new(),
             pitch_deg: None,
             alpha_deg: None,
@@ -781,14 +783,19 @@ mod tests {
         p.surfaces = vec![SurfaceValue {
             name: "wing".into(),
             alpha_deg: 20.0 - speed,
+            alpha_geometric_deg: 20.0 - speed,
             critical_alpha_deg: 22.0 - speed,
             critical_part: "clean".into(),
+            stall_angle_deg: 14.0,
             stall_margin_deg: speed - 8.0,
             stall_pos_deg: 14.0,
             stall_neg_deg: -12.0,
             lift_n: 10.0,
             drag_n: 1.0,
-            loaded: speed > 0.5,
+            slipstream_q_ratio: None,
+            stalled_share: 0.0,
+            in_verdict: speed > 0.5,
+            verdict: crate::margins::StallVerdict::Attached,
         }];
         p.modes = vec![Mode {
             name: "short-period".into(),
@@ -807,6 +814,8 @@ mod tests {
             rotors: Vec::new(),
             stall_deg: speed - 8.0,
             stall_surface: "wing".into(),
+            stalled_load_share: 0.0,
+            stall_verdict: crate::margins::StallVerdict::Attached,
             thrust: 0.3,
             power: 0.2,
             pitch_accel_up_rad_s2: 3.0,
@@ -875,7 +884,7 @@ mod tests {
         assert!(eig.contains("real part (1/s)"));
         assert!(eig.contains("imaginary part (rad/s)"));
         let margins = std::fs::read_to_string(dir.join("margins.svg")).unwrap();
-        assert!(margins.contains("not loaded (not counted)"));
+        assert!(margins.contains("advisory only"));
         let th = &sc.file.thresholds;
         assert!(margins.contains(&format!("threshold {:.1} deg", th.stall_margin_deg)));
         assert!(margins.contains("unsafe band"));

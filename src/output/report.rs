@@ -916,6 +916,7 @@ fn headline(out: &mut String, inp: &ReportInputs) {
     };
     let sw = &sc.file.sweep;
     let obj = match sw.objective {
+        crate::trim::Objective::Reserve => "least shaft power keeping control and stall reserves",
         crate::trim::Objective::Power => "least shaft power",
         crate::trim::Objective::StallMargin => "largest stall margin",
     };
@@ -1277,7 +1278,7 @@ fn mode_cells(at: &str, m: &Mode) -> Vec<String> {
         fo(m.period_s, 2),
         t,
         m.level_8785c
-            .map_or("\u{2013}".into(), |l| format!("level {l}")),
+            .map_or("\u{2013}".into(), |l| crate::linear::level_label(l).into()),
     ]
 }
 

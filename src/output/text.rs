@@ -178,11 +178,23 @@ pub fn point(p: &PointReport) -> String {
     }
     if let Some(m) = &p.margins {
         let _ = writeln!(o, "\nmargins:");
+        let stall = if m.stall_deg.is_finite() {
+            format!(
+                "stall margin {:.2} deg ('{}')",
+                m.stall_deg, m.stall_surface
+            )
+        } else {
+            "stall margin: no part whose stall alone is unsafe carries load".to_string()
+        };
         let _ = writeln!(
             o,
-            "  stall {:.2} deg ({}), thrust {:.0} %, power {:.0} %",
-            m.stall_deg,
-            m.stall_surface,
+            "  {stall}, stalled load share {:.1} % ({}), thrust {:.0} %, power {:.0} %",
+            100.0 * m.stalled_load_share,
+            match m.stall_verdict {
+                crate::margins::StallVerdict::Attached => "attached",
+                crate::margins::StallVerdict::Advisory => "advisory",
+                crate::margins::StallVerdict::Stalled => "stalled",
+            },
             100.0 * m.thrust,
             100.0 * m.power
         );
@@ -218,7 +230,12 @@ pub fn point(p: &PointReport) -> String {
             opt(m.time_to_half_s, 2),
             opt(m.time_to_double_s, 2),
             m.level_8785c
-                .map(|l| format!("  (MIL-F-8785C level {l}, indication only)"))
+                .map(|l| {
+                    format!(
+                        "  (MIL-F-8785C {}, indication only)",
+                        crate::linear::level_label(l)
+                    )
+                })
                 .unwrap_or_default()
         );
     }
@@ -246,12 +263,12 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
             Some(m) => {
                 let _ = writeln!(
                     o,
-                    "  {:>6.1} {:>4} {:>7} {:>7} {:>8.1} {:>8.0} {:>7.0} {:>7.2} {:>7.2} {:>8.3}  {}{}",
+                    "  {:>6.1} {:>4} {:>7} {:>7} {:>8} {:>8.0} {:>7.0} {:>7.2} {:>7.2} {:>8.3}  {}{}",
                     p.speed_mps,
                     if p.reasons.is_empty() { "yes" } else { "!" },
                     opt(p.pitch_deg, 1),
                     opt(p.alpha_deg, 1),
-                    m.stall_deg,
+                    opt(m.stall_deg.is_finite().then_some(m.stall_deg), 1),
                     100.0 * m.thrust,
                     100.0 * m.power,
                     m.pitch_accel_up_rad_s2,

@@ -10,8 +10,8 @@ use std::path::Path;
 use serde::Deserialize;
 
 use super::{
-    DerivativeModel, Downwash, Elevator, Point, Reference, RotorGroup, SlipstreamLink, Surface,
-    SurfaceRole, TiltActuator, Vehicle,
+    AttitudeLimits, DerivativeModel, Downwash, Elevator, Point, Reference, RotorGroup,
+    SlipstreamLink, Surface, SurfaceRole, TiltActuator, Vehicle,
 };
 use crate::aero::{
     helmbold_lift_slope, lifting_line_lift_slope, viterna_cd_max, LiftSlopeMethod, ParametricPolar,
@@ -45,6 +45,33 @@ pub struct VehicleFile {
     pub rotor: Vec<RotorFile>,
     /// Whole-vehicle stability derivatives.
     pub derivatives: Option<DerivativesFile>,
+    /// Pitch attitude limits; the vehicle class default when absent.
+    pub limits: Option<LimitsFile>,
+}
+
+/// `[limits]`: pitch attitude limits, constant or against airspeed (not both).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LimitsFile {
+    /// Lowest pitch attitude (deg).
+    pub pitch_min_deg: Option<f64>,
+    /// Highest pitch attitude (deg).
+    pub pitch_max_deg: Option<f64>,
+    /// Limits against airspeed, speeds increasing.
+    #[serde(default)]
+    pub pitch_by_speed: Vec<PitchRowFile>,
+}
+
+/// `[[limits.pitch_by_speed]]`
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct PitchRowFile {
+    /// Airspeed (m/s).
+    pub speed_mps: f64,
+    /// Lowest pitch attitude (deg).
+    pub min_deg: f64,
+    /// Highest pitch attitude (deg).
+    pub max_deg: f64,
 }
 
 /// `[mass]`
@@ -797,7 +824,10 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
         None => default_reference(&surfaces, derivatives.as_ref(), cg),
     };
 
+    let attitude = build_limits(f.limits.as_ref(), !actuators.is_empty(), &rotors)?;
+
     Ok(Vehicle {
+        attitude,
         name: f.name,
         description: f.description,
         mass_kg,
@@ -810,6 +840,83 @@ fn build(f: VehicleFile, dir: &Path) -> Result<Vehicle, BuildError> {
         rotors,
         derivatives,
     })
+}
+
+fn build_limits(
+    l: Option<&LimitsFile>,
+    has_actuator: bool,
+    rotors: &[RotorGroup],
+) -> Result<AttitudeLimits, BuildError> {
+    let p = KeyPath::root().key("limits");
+    let hint = "pitch attitude is nose-up positive in degrees; keep limits within -90..135";
+    let Some(l) = l else {
+        let class = super::classify_layout(has_actuator, rotors);
+        let mounting = super::strongest_rotor(rotors).map_or(0.0, |r| r.mounting_rad);
+        let (lo, hi) = class.default_pitch_limits_rad(mounting);
+        return Ok(AttitudeLimits::constant(lo, hi, false));
+    };
+    let c = Check { path: &p };
+    match (
+        l.pitch_min_deg,
+        l.pitch_max_deg,
+        l.pitch_by_speed.is_empty(),
+    ) {
+        (Some(lo), Some(hi), true) => {
+            c.limits("pitch_min_deg", lo, "pitch_max_deg", hi)?;
+            c.range("pitch_min_deg", lo, -90.0, 135.0, hint)?;
+            c.range("pitch_max_deg", hi, -90.0, 135.0, hint)?;
+            Ok(AttitudeLimits::constant(
+                lo.to_radians(),
+                hi.to_radians(),
+                true,
+            ))
+        }
+        (None, None, false) => {
+            let mut rows = Vec::with_capacity(l.pitch_by_speed.len());
+            for (i, r) in l.pitch_by_speed.iter().enumerate() {
+                let rp = p.key("pitch_by_speed").index(i);
+                let c = Check { path: &rp };
+                let sp = c.range(
+                    "speed_mps",
+                    r.speed_mps,
+                    0.0,
+                    300.0,
+                    "airspeed of the row in m/s, rows in increasing order",
+                )?;
+                if let Some(&(prev, _, _)) = rows.last() {
+                    if sp <= prev {
+                        return Err(bad(
+                            rp.key("speed_mps"),
+                            format!("speed {sp} m/s does not increase on the row before"),
+                            "list the rows in increasing airspeed",
+                        ));
+                    }
+                }
+                c.limits("min_deg", r.min_deg, "max_deg", r.max_deg)?;
+                c.range("min_deg", r.min_deg, -90.0, 135.0, hint)?;
+                c.range("max_deg", r.max_deg, -90.0, 135.0, hint)?;
+                rows.push((sp, r.min_deg.to_radians(), r.max_deg.to_radians()));
+            }
+            Ok(AttitudeLimits {
+                rows,
+                from_file: true,
+            })
+        }
+        (_, _, true) => Err(bad(
+            p.key(if l.pitch_min_deg.is_none() {
+                "pitch_min_deg"
+            } else {
+                "pitch_max_deg"
+            }),
+            "give both pitch_min_deg and pitch_max_deg",
+            "or list [[limits.pitch_by_speed]] rows with speed_mps, min_deg and max_deg",
+        )),
+        _ => Err(bad(
+            p.key("pitch_by_speed"),
+            "give either constant limits or [[limits.pitch_by_speed]] rows, not both",
+            "remove pitch_min_deg and pitch_max_deg, or the rows",
+        )),
+    }
 }
 
 fn default_reference(surfaces: &[Surface], d: Option<&DerivativeModel>, cg: Point) -> Reference {

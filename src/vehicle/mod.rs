@@ -253,6 +253,95 @@ pub struct Vehicle {
     pub rotors: Vec<RotorGroup>,
     /// Optional whole-vehicle derivative aerodynamics.
     pub derivatives: Option<DerivativeModel>,
+    /// Pitch attitude limits that every trim respects.
+    pub attitude: AttitudeLimits,
+}
+
+/// What kind of VTOL airframe a vehicle is, from its layout: it sets the default attitude
+/// limits and the transition variable.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum VehicleClass {
+    /// Tilt-wing or tilt-rotor: at least one tilt actuator.
+    Tilt,
+    /// Tail-sitter: no tilt actuator, the strongest rotor group thrusts along the body axis
+    /// (mounting below 45 deg), so the airframe pitches up to hover.
+    TailSitter,
+    /// Lift+cruise: no tilt actuator, the strongest rotor group thrusts up.
+    LiftCruise,
+}
+
+impl VehicleClass {
+    /// Default pitch attitude limits (rad) of the class (common practice, no source): a tilt
+    /// or lift+cruise vehicle flies near level (-15..20 deg); a tail-sitter pitches through to
+    /// 10 deg beyond the attitude that points its strongest rotor group straight up.
+    pub fn default_pitch_limits_rad(self, strongest_mounting_rad: f64) -> (f64, f64) {
+        match self {
+            VehicleClass::Tilt | VehicleClass::LiftCruise => {
+                ((-15f64).to_radians(), 20f64.to_radians())
+            }
+            VehicleClass::TailSitter => (
+                (-15f64).to_radians(),
+                std::f64::consts::FRAC_PI_2 - strongest_mounting_rad + 10f64.to_radians(),
+            ),
+        }
+    }
+
+    /// Label for reports.
+    pub fn label(self) -> &'static str {
+        match self {
+            VehicleClass::Tilt => "tilt vehicle",
+            VehicleClass::TailSitter => "tail-sitter",
+            VehicleClass::LiftCruise => "lift+cruise",
+        }
+    }
+}
+
+/// Pitch attitude limits against airspeed: a table of (speed, lowest, highest) rows,
+/// interpolated linearly and held beyond its ends.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct AttitudeLimits {
+    /// Rows (speed m/s, lowest pitch rad, highest pitch rad), speeds increasing.
+    pub rows: Vec<(f64, f64, f64)>,
+    /// Whether the limits come from the vehicle file (`false`: the class default).
+    pub from_file: bool,
+}
+
+impl AttitudeLimits {
+    /// Constant limits (rad).
+    pub fn constant(lo_rad: f64, hi_rad: f64, from_file: bool) -> AttitudeLimits {
+        AttitudeLimits {
+            rows: vec![(0.0, lo_rad, hi_rad)],
+            from_file,
+        }
+    }
+
+    /// Lowest and highest pitch attitude (rad) at an airspeed (m/s).
+    pub fn at(&self, speed_mps: f64) -> (f64, f64) {
+        let r = &self.rows;
+        let first = r[0];
+        if speed_mps <= first.0 || r.len() == 1 {
+            return (first.1, first.2);
+        }
+        for w in r.windows(2) {
+            let (a, b) = (w[0], w[1]);
+            if speed_mps <= b.0 {
+                let t = (speed_mps - a.0) / (b.0 - a.0);
+                return (a.1 + t * (b.1 - a.1), a.2 + t * (b.2 - a.2));
+            }
+        }
+        let last = r[r.len() - 1];
+        (last.1, last.2)
+    }
+
+    /// The widest range over all speeds (rad).
+    pub fn envelope(&self) -> (f64, f64) {
+        self.rows
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), r| {
+                (l.min(r.1), h.max(r.2))
+            })
+    }
 }
 
 impl Vehicle {
@@ -305,6 +394,34 @@ impl Vehicle {
     /// Whether the vehicle has a tilt actuator (transition variable is tilt) or not (pitch).
     pub fn has_tilt(&self) -> bool {
         !self.actuators.is_empty()
+    }
+
+    /// The vehicle's class from its layout ([`VehicleClass`]).
+    pub fn class(&self) -> VehicleClass {
+        classify_layout(!self.actuators.is_empty(), &self.rotors)
+    }
+
+    /// Lowest and highest pitch attitude (rad) allowed at an airspeed (m/s).
+    pub fn pitch_limits_rad(&self, speed_mps: f64) -> (f64, f64) {
+        self.attitude.at(speed_mps)
+    }
+}
+
+/// The rotor group with the most total thrust.
+pub fn strongest_rotor(rotors: &[RotorGroup]) -> Option<&RotorGroup> {
+    rotors.iter().max_by(|a, b| {
+        (a.thrust_max_n * a.count as f64).total_cmp(&(b.thrust_max_n * b.count as f64))
+    })
+}
+
+/// Class of a layout: tilt when it has an actuator; otherwise by the strongest group's axis.
+pub fn classify_layout(has_actuator: bool, rotors: &[RotorGroup]) -> VehicleClass {
+    if has_actuator {
+        return VehicleClass::Tilt;
+    }
+    match strongest_rotor(rotors) {
+        Some(r) if r.mounting_rad.abs() < std::f64::consts::FRAC_PI_4 => VehicleClass::TailSitter,
+        _ => VehicleClass::LiftCruise,
     }
 }
 

@@ -198,7 +198,7 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
             tilt: TiltSetting::Fixed(cruise_tilt),
             pitch_rad: None,
             condition: Condition::Steady,
-            objective: Objective::Power,
+            objective: Objective::Reserve,
         };
         let sol = trim(v, atm, &req, None, true);
         if sol.trimmed() {
@@ -224,9 +224,22 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
             ));
         }
     }
+    // The default scenario threshold (common practice, no source); a scenario may set another.
+    let sm_floor = crate::scenario::Thresholds::default().static_margin_pct;
+    for r in &rotors {
+        if r.hover_thrust_available_n < r.thrust_max_n * (1.0 - 1e-6) {
+            warnings.push(format!(
+                "rotor group '{}': its thrust cap ({:.1} N per rotor) is above the {:.1} N its power gives in hover; the power, not the cap, limits it at low speed",
+                r.name, r.thrust_max_n, r.hover_thrust_available_n
+            ));
+        }
+    }
     match sm {
         Some(k) if k < 0.0 => warnings.push(format!(
             "static margin in cruise configuration is negative ({k:.1} % chord): the airframe is statically unstable in pitch"
+        )),
+        Some(k) if k < sm_floor => warnings.push(format!(
+            "static margin in cruise configuration is {k:.1} % chord, below the default threshold of {sm_floor:.1} %"
         )),
         None if stall_speed.is_some() => warnings.push(
             "the cruise configuration could not be trimmed at 1.4 times the stall speed; static margin unknown".into(),

@@ -36,7 +36,7 @@ fn pitch_settings(speeds: Vec<f64>, pitch_deg: Vec<f64>) -> CorridorSettings {
         values_rad: pitch_deg.iter().map(|d| d.to_radians()).collect(),
         climb_rad: 0.0,
         thresholds: Thresholds::default(),
-        pitch_limits_rad: None,
+        objective: hoverline::trim::Objective::default(),
     }
 }
 
@@ -66,7 +66,11 @@ fn airplane_corridor_starts_at_the_stall_speed() {
     // Pitch is the wing's angle of attack in level flight (zero incidence): a fine grid up to
     // the stall angle, since the band of pitch that balances the weight is narrow.
     let pitch = range(9.0, 15.0, 0.05);
-    let c = corridor(&v, &pitch_settings(speeds.clone(), pitch.clone()));
+    // With no stall-margin allowance the corridor's low edge is the stall itself; with the
+    // default 3 deg allowance it moves up (every normalised margin must be >= 0 inside).
+    let mut settings = pitch_settings(speeds.clone(), pitch.clone());
+    settings.thresholds.stall_margin_deg = 0.0;
+    let c = corridor(&v, &settings);
     let inside_at = |i: usize| {
         (0..pitch.len())
             .filter(|&j| c.at(i, j).inside)

@@ -47,6 +47,7 @@ fn bare_body() -> Vehicle {
         surfaces: vec![],
         rotors: vec![],
         derivatives: None,
+        attitude: hoverline::vehicle::AttitudeLimits::constant(-1.5, 1.5, true),
     }
 }
 

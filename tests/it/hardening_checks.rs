@@ -250,12 +250,12 @@ fn meaningless_magnitudes_are_refused_with_a_plausible_range() {
             "pitch_inertia_kg_m2 = 1e-201",
             "kg m^2",
         ),
-        ("chord_m = 0.36", "chord_m = 1e250", "0.0001..1000 m"),
+        ("chord_m = 0.45", "chord_m = 1e250", "0.0001..1000 m"),
         ("x_m = -1.58", "x_m = 1e300", "-1000..1000 m"),
-        ("thrust_max_n = 85.0", "thrust_max_n = 1e308", "N"),
-        ("power_max_w = 2300.0", "power_max_w = 1e308", "W"),
+        ("thrust_max_n = 38.0", "thrust_max_n = 1e308", "N"),
+        ("power_max_w = 1200.0", "power_max_w = 1e308", "W"),
         ("rate_deg_s = 20.0", "rate_deg_s = 1e-300", "deg/s"),
-        ("count = 4", "count = 4000000", "1..1000"),
+        ("count = 12", "count = 4000000", "1..1000"),
     ] {
         let f = write(&d, "v.toml", &swap(&g, from, to));
         let r = run_in(&d, &["check", &f]);

@@ -12,3 +12,4 @@ mod report_checks;
 mod rotor_checks;
 mod trim_checks;
 mod vehicle_checks;
+mod verdict_checks;
