@@ -337,6 +337,19 @@ pub fn optimise(g: &MarginGrid, c: &Constraints) -> Result<GridPath, ScheduleErr
     Ok(second)
 }
 
+/// Refuse an optimiser table of more than [`crate::limits::MAX_SCHEDULE_CELLS`] cells
+/// (`knots` x `values` x `values`).
+fn table_size(knots: usize, values: usize) -> Result<(), ScheduleError> {
+    let cells = knots as f64 * values as f64 * values as f64;
+    if cells > crate::limits::MAX_SCHEDULE_CELLS as f64 {
+        return Err(ScheduleError::Settings(format!(
+            "the optimiser's table would have {cells:.3e} cells (knots x values x values); hint: use a larger --value-step or --knot-spacing (at most {} cells)",
+            crate::limits::MAX_SCHEDULE_CELLS
+        )));
+    }
+    Ok(())
+}
+
 fn dp(
     g: &MarginGrid,
     c: &Constraints,
@@ -347,13 +360,7 @@ fn dp(
     let y = &g.values_rad;
     let kk = knots.len();
     // The table holds knots x values x values cells: check before allocating.
-    let cells = kk as f64 * nv as f64 * nv as f64;
-    if cells > crate::limits::MAX_SCHEDULE_CELLS as f64 {
-        return Err(ScheduleError::Settings(format!(
-            "the optimiser's table would have {cells:.3e} cells (knots x values x values); hint: use a larger --value-step or --knot-spacing (at most {} cells)",
-            crate::limits::MAX_SCHEDULE_CELLS
-        )));
-    }
+    table_size(kk, nv)?;
     let neg = f64::NEG_INFINITY;
     // Value of a state: bottleneck (pass 1) or clamped sum with every margin >= floor (pass 2).
     let init = |j: usize| -> f64 {
@@ -537,6 +544,18 @@ impl ScheduleSettings {
                 .has_tilt()
                 .then(|| crate::corridor::default_value_range_rad(v).0),
         }
+    }
+
+    /// Check, before the corridor is computed, that the optimiser's table for a grid of
+    /// `speeds` x `values` points with speed spacing `dv_mps` stays inside its cell limit.
+    pub fn check_grid(
+        &self,
+        speeds: usize,
+        values: usize,
+        dv_mps: f64,
+    ) -> Result<(), ScheduleError> {
+        let stride = self.constraints(dv_mps).knot_stride.max(1);
+        table_size(speeds.div_ceil(stride) + 1, values)
     }
 
     /// The constraints on a grid with speed spacing `dv_mps`.

@@ -47,6 +47,12 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
         ss.knot_spacing_mps = k;
     }
     ss.refine = !a.no_refine;
+    let dv = match s.speeds_mps.as_slice() {
+        [a, b, ..] => b - a,
+        _ => 0.0,
+    };
+    ss.check_grid(s.speeds_mps.len(), s.values_rad.len(), dv)
+        .map_err(|e| CliError::Usage(e.to_string()))?;
     let c = compute_with_bar(&sc, &s)?;
     let atm = hoverline::atmosphere::isa(
         sc.file.atmosphere.altitude_m,

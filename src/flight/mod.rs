@@ -176,7 +176,7 @@ fn check(p: &KeyPath, key: &str, v: f64, lo: f64, hi: f64, hint: &str) -> Result
     } else {
         Err(Invalid::new(
             p.key(key),
-            format!("must lie in {lo}..{hi}, got {v}"),
+            format!("must lie in {lo}..{hi}, got {}", crate::limits::show(v)),
             hint,
         ))
     }
@@ -188,7 +188,10 @@ fn positive(p: &KeyPath, key: &str, v: f64, hi: f64, hint: &str) -> Result<f64, 
     } else {
         Err(Invalid::new(
             p.key(key),
-            format!("must be above 0 and at most {hi}, got {v}"),
+            format!(
+                "must be above 0 and at most {hi}, got {}",
+                crate::limits::show(v)
+            ),
             hint,
         ))
     }

@@ -150,6 +150,10 @@ fn counts_that_size_an_allocation_are_checked_before_use() {
         assert!(!r.stdout.contains("wrote"), "{}", r.stdout);
     }
     let f = write(&d, "good.toml", &base);
+    // The schedule optimiser's table: refused before the corridor is computed.
+    let r = run_in(&d, &["schedule", &f, "--value-step", "0.01", "--out", "o"]);
+    assert_eq!(r.code, Some(2), "{}", r.stderr);
+    assert!(r.stderr.contains("at most 20000000 cells"), "{}", r.stderr);
     for flags in [
         ["--speed-step", "1e-300"],
         ["--speed-step", "1e-9"],
