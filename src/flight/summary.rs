@@ -273,6 +273,41 @@ fn findings(
     out
 }
 
+/// UNSAFE findings for the pitch attitude outside the vehicle's limits at the flown airspeed:
+/// one per contiguous run of samples, with the extreme attitude and the limit it passed.
+fn attitude_findings(v: &Vehicle, s: &[Sample]) -> Vec<String> {
+    let outside = |x: &Sample| {
+        let (lo, hi) = v.pitch_limits_rad(x.airspeed_mps);
+        x.state.theta_rad < lo - 1e-9 || x.state.theta_rad > hi + 1e-9
+    };
+    let mut out = Vec::new();
+    for (a, b) in runs(s.len(), |k| outside(&s[k])) {
+        let worst = s[a..=b]
+            .iter()
+            .max_by(|p, q| {
+                let beyond = |x: &Sample| {
+                    let (lo, hi) = v.pitch_limits_rad(x.airspeed_mps);
+                    (lo - x.state.theta_rad).max(x.state.theta_rad - hi)
+                };
+                beyond(p).total_cmp(&beyond(q))
+            })
+            .expect("a run has samples");
+        let (lo, hi) = v.pitch_limits_rad(worst.airspeed_mps);
+        out.push(format!(
+            "pitch attitude outside the vehicle's limits {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {:.1} deg at {:.1} m/s, limits {:.1} .. {:.1} deg",
+            s[a].time_s,
+            s[b].time_s,
+            s[a].airspeed_mps,
+            s[b].airspeed_mps,
+            worst.state.theta_rad.to_degrees(),
+            worst.airspeed_mps,
+            lo.to_degrees(),
+            hi.to_degrees()
+        ));
+    }
+    out
+}
+
 /// Something that happened, for the event list.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Event {
@@ -940,7 +975,8 @@ pub fn summarise(
         &plan_held,
         duration_s,
     );
-    let unsafe_findings = findings(v, &outcome, &surfaces, &corridor_exits);
+    let mut unsafe_findings = findings(v, &outcome, &surfaces, &corridor_exits);
+    unsafe_findings.extend(attitude_findings(v, s));
     let summary = Summary {
         manoeuvre: manoeuvre.label().to_string(),
         start_speed_mps: start_v,
