@@ -634,8 +634,9 @@ impl ClosedLoop {
     }
 
     /// Margins at every actuator: (closed loop stable, margins per actuator); without
-    /// `crossings` only the disk margins and peak gains.
-    pub fn margins(&self, crossings: bool) -> (bool, Vec<FrequencyMargins>) {
+    /// `crossings` only the disk margins and peak gains; with `only`, only the actuators it
+    /// marks.
+    pub fn margins(&self, crossings: bool, only: Option<&[bool]>) -> (bool, Vec<FrequencyMargins>) {
         let m = self.b.len();
         let closed = Roots::of(&self.a_closed(&vec![1.0; m]));
         let stable = closed.stable();
@@ -652,7 +653,9 @@ impl ClosedLoop {
             .collect();
         let mut g = vec![1.0; m];
         for (j, o) in out.iter_mut().enumerate() {
-            if self.c[j].norm() * self.b[j].norm() <= 1e-12 {
+            if self.c[j].norm() * self.b[j].norm() <= 1e-12
+                || only.is_some_and(|o| !o.get(j).copied().unwrap_or(true))
+            {
                 continue;
             }
             g[j] = 0.0;
@@ -840,7 +843,7 @@ pub fn loop_margins(
     ls: &LoopSettings,
 ) -> Vec<LoopMargin> {
     let cl = closed_loop(v, state, controls, lin, gains, climb_rad, ls);
-    let (stable, fm) = cl.margins(true);
+    let (stable, fm) = cl.margins(true, None);
     let in_loop: Vec<bool> = (0..cl.b.len())
         .map(|j| {
             if stable {
@@ -860,7 +863,8 @@ pub fn loop_margins(
             effectiveness: e * ls.effectiveness,
             ..*ls
         };
-        let (ok, mm) = closed_loop(v, state, controls, lin, gains, climb_rad, &case).margins(false);
+        let (ok, mm) = closed_loop(v, state, controls, lin, gains, climb_rad, &case)
+            .margins(false, Some(&in_loop));
         mismatch_stable &= ok;
         for (j, w) in worst.iter_mut().enumerate() {
             let d = if ok { mm[j].disk_margin } else { Some(0.0) };

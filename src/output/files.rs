@@ -324,17 +324,4 @@ mod tests {
         assert_eq!(std::fs::read_to_string(dir.join("out.txt")).unwrap(), "new");
         std::fs::remove_dir_all(&dir).unwrap();
     }
-
-    #[test]
-    fn streamed_json_is_the_same_document() {
-        let dir = std::env::temp_dir().join(format!("hoverline-json-{}", std::process::id()));
-        let p = dir.join("a.json");
-        let v = vec![(1.5, "x"), (2.0, "y")];
-        write_json(&p, &v).unwrap();
-        assert_eq!(
-            std::fs::read_to_string(&p).unwrap(),
-            serde_json::to_string_pretty(&v).unwrap()
-        );
-        std::fs::remove_dir_all(&dir).unwrap();
-    }
 }

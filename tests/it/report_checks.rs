@@ -510,3 +510,18 @@ fn report_refuses_bad_input_with_status_2() {
     assert_eq!(run(&["report"]).status.code(), Some(2));
     assert!(!dir.join("report.html").exists());
 }
+
+#[test]
+fn streamed_json_is_the_document_serde_builds_in_memory() {
+    // Common practice, no source: writing a JSON document straight into the file must give
+    // the very bytes of the in-memory pretty serialisation.
+    let dir = std::env::temp_dir().join(format!("hoverline-json-{}", std::process::id()));
+    let p = dir.join("a.json");
+    let v = vec![(1.5, "x".to_string()), (2.0, "y\"z".to_string())];
+    hoverline::output::files::write_json(&p, &v).unwrap();
+    assert_eq!(
+        std::fs::read_to_string(&p).unwrap(),
+        serde_json::to_string_pretty(&v).unwrap()
+    );
+    std::fs::remove_dir_all(&dir).unwrap();
+}
