@@ -278,3 +278,69 @@ fn tail_sitter_default_limits_reach_past_vertical() {
     assert!((lo.to_degrees() + 15.0).abs() < 1e-9);
     assert!(hi.to_degrees() > 95.0 && hi.to_degrees() < 105.0);
 }
+
+#[test]
+fn hover_thrust_margin_is_one_minus_thrust_over_the_momentum_theory_limit() {
+    // Source: momentum theory in hover, P = T^(3/2) / (FM sqrt(2 rho A)) (Leishman,
+    // Principles of Helicopter Aerodynamics, ch. 2; from memory), so the power-limited thrust
+    // is T_P = (P FM sqrt(2 rho A))^(2/3); thrust margin = 1 - T / min(T_cap, T_P).
+    use hoverline::rotor::PowerModel;
+    use hoverline::scenario::Thresholds;
+    use hoverline::sweep::solve_point;
+    let v = vehicle("vehicles/tilt-rotor-mapper.toml");
+    let atm = Atmosphere::sea_level();
+    let tilt = TiltSetting::Fixed(vec![90f64.to_radians(); v.actuators.len()]);
+    let req = hover(tilt, Objective::Reserve);
+    let (rep, sol) = solve_point(&v, &atm, &req, &Thresholds::default(), None, true);
+    assert!(sol.trimmed());
+    for (g, r) in v.rotors.iter().enumerate() {
+        let PowerModel::FigureOfMerit(fm) = r.power_model else {
+            panic!("the demo rotors use a figure of merit");
+        };
+        let t_p = (r.power_max_w * fm * (2.0 * atm.density_kg_m3 * r.disk_area_m2()).sqrt())
+            .powf(2.0 / 3.0);
+        let t1 = sol.controls.thrust_n[g];
+        let expected = 1.0 - t1 / t_p.min(r.thrust_max_n);
+        let got = rep.rotors[g].thrust_margin;
+        assert!(
+            (got - expected).abs() < 1e-6,
+            "{}: {got} vs {expected}",
+            r.name
+        );
+    }
+}
+
+#[test]
+fn elevator_travel_left_counts_both_stops() {
+    // Source: definition: travel left = min(max - delta, delta - min) over elevators with
+    // authority; checked at cruise points where the elevator is trailing-edge up (delta < 0),
+    // so the lower stop is the nearer one.
+    use hoverline::scenario::Thresholds;
+    use hoverline::sweep::solve_point;
+    let v = vehicle("vehicles/tilt-wing-courier.toml");
+    let atm = Atmosphere::sea_level();
+    let el = &v.elevators[0];
+    let mut seen = 0;
+    for speed in [16.0, 20.0, 25.0] {
+        let req = TrimRequest {
+            speed_mps: speed,
+            climb_rad: 0.0,
+            tilt: TiltSetting::Fixed(vec![0.0]),
+            pitch_rad: None,
+            condition: Condition::Steady,
+            objective: Objective::Reserve,
+        };
+        let (rep, sol) = solve_point(&v, &atm, &req, &Thresholds::default(), None, true);
+        assert!(sol.trimmed(), "{:?}", sol.reasons);
+        let d = sol.controls.elevator_rad[0];
+        let expected = (el.max_rad - d).min(d - el.min_rad).to_degrees();
+        let got = rep
+            .margins
+            .unwrap()
+            .elevator_deg
+            .expect("the elevator has authority");
+        assert!((got - expected).abs() < 1e-9, "{got} vs {expected}");
+        seen += usize::from(d < 0.0);
+    }
+    assert!(seen > 0, "no point with the elevator trailing-edge up");
+}
