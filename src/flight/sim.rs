@@ -738,6 +738,9 @@ pub struct Sample {
     pub part_alpha_rad: Vec<f64>,
     /// Dynamic pressure x area of every part over the weight (-).
     pub part_load: Vec<f64>,
+    /// Per surface, whether its stall is unsafe under the sweep's stall rule
+    /// ([`crate::margins::stall_assessment`] at the default stalled-load share).
+    pub stall_unsafe: Vec<bool>,
     /// Feedback input at a limit (thrusts then elevators); then each tilt at its rate limit.
     pub saturated: Vec<bool>,
     /// Saturation at the upper limit (same layout).
@@ -783,6 +786,12 @@ fn sample_of(sys: &Sys, t: f64, y: &DVector<f64>) -> Sample {
         part_alpha.push(dl.alpha_rad);
         part_load.push(0.5 * d.density_kg_m3 * e.airspeed_mps * e.airspeed_mps * dm.area_m2 / w);
     }
+    let stall_unsafe =
+        crate::margins::stall_assessment(v, d.density_kg_m3, e, crate::trim::TRIM_STALLED_SHARE)
+            .surfaces
+            .iter()
+            .map(|st| st.verdict == crate::margins::StallVerdict::Stalled)
+            .collect();
     let nt = v.rotors.len();
     let ne = v.elevators.len();
     let na = v.actuators.len();
@@ -821,6 +830,7 @@ fn sample_of(sys: &Sys, t: f64, y: &DVector<f64>) -> Sample {
         elevator_rad: s.controls.elevator_rad.clone(),
         part_alpha_rad: part_alpha,
         part_load,
+        stall_unsafe,
         saturated,
         saturated_high: high,
         pitch_offset_limited: d.pitch_offset_limited,

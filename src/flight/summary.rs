@@ -7,7 +7,10 @@
 //! stall angle *and* carries load: its dynamic pressure times area is at least
 //! `stall_load_fraction` (default 0.5 %) of the weight. The load rule leaves out parts whose
 //! flow is too weak to matter (the clean part of a tilted wing in hover sees no airspeed and an
-//! angle of attack of 90 deg). Time beyond stall is summed over the samples. The same rule is
+//! angle of attack of 90 deg). On top of that the sweep's stall rule decides
+//! ([`crate::margins::stall_assessment`], at the default stalled-load share): a surface whose
+//! separation is only advisory (a body, a stalled share below the threshold) or download is not
+//! counted as beyond stall. Time beyond stall is summed over the samples. The same rule is
 //! applied to the steady trim points of the table, so the flown exposure can be set beside the
 //! quasi-steady one at the same airspeed: they differ where the flight is not steady
 //! (acceleration, pitch transients, tilt lag, gusts).
@@ -436,10 +439,22 @@ fn steady_stall(
                     0.5 * atm.density_kg_m3 * e.airspeed_mps * e.airspeed_mps * d.area_m2 / w,
                 );
             }
+            let rule = crate::margins::stall_assessment(
+                v,
+                atm.density_kg_m3,
+                &e,
+                crate::trim::TRIM_STALLED_SHARE,
+            );
             Some(
                 stall_state(labels, stall, &alpha, &load, min_load)
                     .into_iter()
-                    .map(|x| x.0)
+                    .enumerate()
+                    .map(|(si, x)| {
+                        x.0 && rule
+                            .surfaces
+                            .get(si)
+                            .is_none_or(|st| st.verdict == crate::margins::StallVerdict::Stalled)
+                    })
                     .collect(),
             )
         })
@@ -592,7 +607,17 @@ pub fn summarise(
     // Stall exposure.
     let flown: Vec<Vec<(bool, Vec<usize>, f64)>> = s
         .iter()
-        .map(|x| stall_state(&labels, &stall, &x.part_alpha_rad, &x.part_load, min_load))
+        .map(|x| {
+            let mut st = stall_state(&labels, &stall, &x.part_alpha_rad, &x.part_load, min_load);
+            // The sweep's stall rule decides: a surface whose separation is only advisory
+            // (a body, a small stalled share) or download is not beyond stall.
+            for (si, unsafe_stall) in x.stall_unsafe.iter().enumerate() {
+                if !unsafe_stall {
+                    st[si].0 = false;
+                }
+            }
+            st
+        })
         .collect();
     let steady = table.map(|t| steady_stall(v, atm, t, &labels, &stall, min_load));
     let mut surfaces = Vec::new();
