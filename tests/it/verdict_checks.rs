@@ -344,3 +344,33 @@ fn elevator_travel_left_counts_both_stops() {
     }
     assert!(seen > 0, "no point with the elevator trailing-edge up");
 }
+
+#[test]
+fn an_updraft_on_a_pitched_vehicle_at_rest_comes_from_below_the_nose() {
+    // Source: axis transformation earth -> body (Etkin and Reid, Dynamics of Flight, ch. 4;
+    // from memory): at rest in an updraft w_g (up), the air-relative velocity in earth axes is
+    // w_g downward, so u = -w_g sin(theta), w = w_g cos(theta) and alpha = 90 deg + theta.
+    use hoverline::dynamics::{evaluate, Controls, State, Wind};
+    let v = vehicle("vehicles/tilt-wing-courier.toml");
+    let atm = Atmosphere::sea_level();
+    let theta = 30f64.to_radians();
+    let state = State {
+        u_mps: 0.0,
+        w_mps: 0.0,
+        q_rad_s: 0.0,
+        theta_rad: theta,
+        ..Default::default()
+    };
+    let mut e = Evaluation::default();
+    let wind = Wind {
+        x_mps: 0.0,
+        z_mps: -3.0,
+    };
+    evaluate(&v, &atm, &state, &Controls::zeros(&v), wind, &mut e);
+    assert!((e.airspeed_mps - 3.0).abs() < 1e-12);
+    assert!(
+        (e.alpha_rad - (90f64.to_radians() + theta)).abs() < 1e-12,
+        "alpha {:.3} deg",
+        e.alpha_rad.to_degrees()
+    );
+}
