@@ -359,7 +359,6 @@ fn an_updraft_on_a_pitched_vehicle_at_rest_comes_from_below_the_nose() {
         w_mps: 0.0,
         q_rad_s: 0.0,
         theta_rad: theta,
-        ..Default::default()
     };
     let mut e = Evaluation::default();
     let wind = Wind {
