@@ -742,16 +742,6 @@ pub fn classify(
         .filter(|s| s.in_verdict)
         .map(|s| (s.name.clone(), s.stall_margin_deg))
         .collect();
-    let (worst_stall, worst_surface) = stall.iter().map(|(n, m)| (*m, n.clone())).fold(
-        (None, None),
-        |acc: (Option<f64>, Option<String>), (m, n)| {
-            if acc.0.is_none_or(|a| m < a) {
-                (Some(m), Some(n))
-            } else {
-                acc
-            }
-        },
-    );
     let Some(m) = rep.margins.as_ref() else {
         // assess always gives margins for a trimmed point; be safe anyway.
         p.reason = "no margins at a trimmed point".into();
@@ -901,8 +891,9 @@ pub fn classify(
         p.violations.push(Limit::Instability);
     }
     p.margins = Some(PointMargins {
-        stall_deg: worst_stall,
-        stall_surface: worst_surface,
+        // The verdict margin the margins module already took over the same parts.
+        stall_deg: m.stall_deg.is_finite().then_some(m.stall_deg),
+        stall_surface: m.stall_deg.is_finite().then(|| m.stall_surface.clone()),
         thrust: m.thrust,
         power: m.power,
         pitch_accel_up_rad_s2: m.pitch_accel_up_rad_s2,
