@@ -1208,12 +1208,15 @@ pub fn to_document(b: &BuiltSchedule, scenario_name: &str) -> ScheduleDocument {
                 Variable::Tilt => ScheduleMode::Tilt,
                 Variable::Pitch => ScheduleMode::Pitch,
             },
-            speed_mps: b.speed_mps.iter().map(|s| round_to(*s, 1e-6)).collect(),
-            value_deg: b.value_deg.iter().map(|s| round_to(*s, 1e-4)).collect(),
+            speed_mps: b.speed_mps.iter().map(|s| round_to(*s, 6)).collect(),
+            value_deg: b.value_deg.iter().map(|s| round_to(*s, 4)).collect(),
         },
     }
 }
 
-fn round_to(x: f64, q: f64) -> f64 {
-    (x / q).round() * q
+/// `x` rounded to `decimals` places; dividing by the exact power of ten gives the double
+/// nearest the decimal, so the file shows `31.0983`, not `31.098300000000002`.
+fn round_to(x: f64, decimals: i32) -> f64 {
+    let n = 10f64.powi(decimals);
+    (x * n).round() / n
 }

@@ -171,7 +171,7 @@ fn non_physical_values_are_refused_with_file_line_and_hint() {
         &["mass_kg", "outside 0.01..100000 kg"],
     );
     refused(&swap(&g, "mass_kg = 25.0", "mass_kg = -3.0"), &["mass_kg"]);
-    refused(&swap(&g, "area_m2 = 1.35", "area_m2 = -1.35"), &["area_m2"]);
+    refused(&swap(&g, "area_m2 = 1.45", "area_m2 = -1.45"), &["area_m2"]);
     refused(
         &swap(&g, "stall_pos_deg = 18.0", "stall_pos_deg = 95.0"),
         &["stall_pos_deg", "0..90"],
@@ -194,7 +194,7 @@ fn non_physical_values_are_refused_with_file_line_and_hint() {
         &["min_deg", "above"],
     );
     refused(
-        &swap(&g, "fraction = 0.90", "fraction = 1.45"),
+        &swap(&g, "fraction = 0.93", "fraction = 1.45"),
         &["fraction"],
     );
     refused(

@@ -373,3 +373,26 @@ fn an_updraft_on_a_pitched_vehicle_at_rest_comes_from_below_the_nose() {
         e.alpha_rad.to_degrees()
     );
 }
+
+#[test]
+fn flagship_demo_corridor_is_open_from_hover_to_cruise() {
+    // Common practice, no source: the demo that teaches the tool must show an open corridor;
+    // this guards it against a model or design change that closes a band again (with 10 % of
+    // the courier's wing outside the wakes, 13-14 m/s had no point inside).
+    let sc = load_scenario(&root().join("scenarios/courier-transition.toml")).unwrap();
+    let s = CorridorSettings::for_scenario(&sc, None, None).unwrap();
+    let atm = isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .unwrap();
+    let c = compute(&sc.vehicle, &atm, &s, &|| {}).unwrap();
+    let mut speeds: Vec<f64> = c.points.iter().map(|p| p.speed_mps).collect();
+    speeds.dedup();
+    for v in speeds {
+        assert!(
+            c.points.iter().any(|p| p.speed_mps == v && p.inside),
+            "no point inside at {v} m/s"
+        );
+    }
+}
