@@ -149,6 +149,9 @@ pub struct FlightSettings {
     pub gust: Option<crate::scenario::GustFile>,
     /// Load fraction (q S / W) from which a surface part counts for stall exposure.
     pub stall_load_fraction: f64,
+    /// Stalled load share at which stall is unsafe (the scenario's
+    /// `[thresholds] stalled_load_share`; see [`crate::margins::stall_assessment`]).
+    pub stalled_load_share: f64,
     /// Tilt lag that is reported (rad).
     pub tilt_lag_warning_rad: f64,
     /// Flight-path angle of the reference (rad).
@@ -200,7 +203,9 @@ fn positive(p: &KeyPath, key: &str, v: f64, hi: f64, hint: &str) -> Result<f64, 
 impl FlightSettings {
     /// Settings of a scenario (its `[flight]` and `[transition]` tables and climb angle).
     pub fn from_scenario(sc: &Scenario) -> Result<FlightSettings, Invalid> {
-        FlightSettings::from_file(&sc.file.flight, &sc.file.transition, sc.climb_rad)
+        let mut s = FlightSettings::from_file(&sc.file.flight, &sc.file.transition, sc.climb_rad)?;
+        s.stalled_load_share = sc.file.thresholds.stalled_load_share;
+        Ok(s)
     }
 
     /// Validate a `[flight]` table against the ranges the simulation supports.
@@ -420,6 +425,7 @@ impl FlightSettings {
             },
             gust: f.gust.clone(),
             stall_load_fraction: f.stall_load_fraction,
+            stalled_load_share: crate::trim::TRIM_STALLED_SHARE,
             tilt_lag_warning_rad: f.tilt_lag_warning_deg.to_radians(),
             climb_rad,
             acceleration_mps2: tr.acceleration_mps2,

@@ -267,6 +267,7 @@ pub struct Sys<'a> {
     tilt_servo: f64,
     alpha_protection_rad: Option<f64>,
     min_load: f64,
+    stalled_share: f64,
     path_cos: f64,
     layout: Layout,
     scratch: RefCell<Scratch>,
@@ -303,6 +304,7 @@ impl<'a> Sys<'a> {
             tilt_servo: settings.tilt_servo_bandwidth_rad_s,
             alpha_protection_rad: settings.alpha_protection_margin_rad,
             min_load: settings.stall_load_fraction,
+            stalled_share: settings.stalled_load_share,
             path_cos: settings.climb_rad.cos().max(0.1),
             layout: Layout {
                 tilts: v.actuators.len(),
@@ -786,12 +788,11 @@ fn sample_of(sys: &Sys, t: f64, y: &DVector<f64>) -> Sample {
         part_alpha.push(dl.alpha_rad);
         part_load.push(0.5 * d.density_kg_m3 * e.airspeed_mps * e.airspeed_mps * dm.area_m2 / w);
     }
-    let stall_unsafe =
-        crate::margins::stall_assessment(v, d.density_kg_m3, e, crate::trim::TRIM_STALLED_SHARE)
-            .surfaces
-            .iter()
-            .map(|st| st.verdict == crate::margins::StallVerdict::Stalled)
-            .collect();
+    let stall_unsafe = crate::margins::stall_assessment(v, d.density_kg_m3, e, sys.stalled_share)
+        .surfaces
+        .iter()
+        .map(|st| st.verdict == crate::margins::StallVerdict::Stalled)
+        .collect();
     let nt = v.rotors.len();
     let ne = v.elevators.len();
     let na = v.actuators.len();

@@ -399,7 +399,8 @@ fn stall_state(
     out
 }
 
-/// Steady stall of every table point by the load rule: per point, per surface.
+/// Steady stall of every table point by the load rule and the stall rule at `stalled_share`:
+/// per point, per surface.
 fn steady_stall(
     v: &Vehicle,
     atm: &Atmosphere,
@@ -407,6 +408,7 @@ fn steady_stall(
     labels: &[(usize, String)],
     stall: &[(String, f64, f64)],
     min_load: f64,
+    stalled_share: f64,
 ) -> Vec<Option<Vec<bool>>> {
     let mut e = Evaluation::default();
     let w = v.weight_n();
@@ -439,12 +441,7 @@ fn steady_stall(
                     0.5 * atm.density_kg_m3 * e.airspeed_mps * e.airspeed_mps * d.area_m2 / w,
                 );
             }
-            let rule = crate::margins::stall_assessment(
-                v,
-                atm.density_kg_m3,
-                &e,
-                crate::trim::TRIM_STALLED_SHARE,
-            );
+            let rule = crate::margins::stall_assessment(v, atm.density_kg_m3, &e, stalled_share);
             Some(
                 stall_state(labels, stall, &alpha, &load, min_load)
                     .into_iter()
@@ -619,7 +616,17 @@ pub fn summarise(
             st
         })
         .collect();
-    let steady = table.map(|t| steady_stall(v, atm, t, &labels, &stall, min_load));
+    let steady = table.map(|t| {
+        steady_stall(
+            v,
+            atm,
+            t,
+            &labels,
+            &stall,
+            min_load,
+            settings.stalled_load_share,
+        )
+    });
     let mut surfaces = Vec::new();
     for (si, (name, pos, neg)) in stall.iter().enumerate() {
         let mut hi: Option<(f64, usize)> = None;

@@ -396,3 +396,24 @@ fn flagship_demo_corridor_is_open_from_hover_to_cruise() {
         );
     }
 }
+
+#[test]
+fn flight_stall_exposure_uses_the_scenario_stalled_share() {
+    // One stall rule (README, "The stall rule"): the flight judges stall with the scenario's
+    // `[thresholds] stalled_load_share`, like the sweep and the corridor.
+    let text = std::fs::read_to_string(root().join("scenarios/courier-heavy-hot.toml"))
+        .unwrap()
+        .replace(
+            "\"../vehicles/",
+            &format!("\"{}/", root().join("vehicles").display()),
+        )
+        .replace("[thresholds]\n", "[thresholds]\nstalled_load_share = 0.2\n");
+    let dir = std::env::temp_dir().join(format!("hoverline-share-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join("s.toml");
+    std::fs::write(&p, text).unwrap();
+    let sc = load_scenario(&p).unwrap();
+    let s = hoverline::flight::FlightSettings::from_scenario(&sc).unwrap();
+    assert_eq!(s.stalled_load_share, 0.2);
+    std::fs::remove_dir_all(&dir).ok();
+}
