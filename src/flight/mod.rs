@@ -4,7 +4,9 @@
 //! feedback law that follows the schedule.
 //!
 //! States: `u, w, q, theta, x, h`, the integrals of the speed and height errors, the angle of
-//! each tilt actuator, the thrust of each rotor group and the energy drawn by each group.
+//! each tilt actuator, the thrust of each rotor group, the energy drawn by each group, the
+//! position of each elevator behind its servo and, closed loop, one delay state per thrust and
+//! elevator command.
 //!
 //! - **Tilt actuators:** a first-order servo of bandwidth `w_s` behind a rate limit,
 //!   `dtau/dt = clamp(w_s (tau_cmd - tau), -rate, +rate)`, the command held in the range.
@@ -12,7 +14,11 @@
 //!   [`MIN_THRUST_LAG_S`] are raised to it), the command limited to `0..T_available`, where
 //!   `T_available` respects both the thrust cap and the shaft power available at the current
 //!   inflow (momentum theory, `rotor::thrust_available`).
-//! - **Elevators:** positioned at once, limited to their travel.
+//! - **Elevators:** a first-order servo of bandwidth `[flight] elevator_bandwidth_rad_s`
+//!   towards the command limited to the travel (0 positions them at once).
+//! - **Delay:** closed loop, every thrust and elevator command passes the sensor-plus-
+//!   computation delay `[flight] loop_delay_s` as its first-order Pade approximant
+//!   `(1 - s T / 2) / (1 + s T / 2)`, the same model the loop margins use.
 //! - **Wind:** steady wind plus an optional 1-cosine discrete gust ([`wind`], MIL-F-8785C).
 //! - **Manoeuvre:** hold, a speed ramp at the planned acceleration (or deceleration) between
 //!   the ends of the trim table, hold; the planned speed is governed so that it never runs
@@ -141,6 +147,11 @@ pub struct FlightSettings {
     pub absolute_tolerance: f64,
     /// Tilt servo bandwidth (rad/s).
     pub tilt_servo_bandwidth_rad_s: f64,
+    /// Elevator servo bandwidth (rad/s); 0 positions the elevators at once.
+    pub elevator_bandwidth_rad_s: f64,
+    /// Sensor-plus-computation delay of the feedback (s), flown as the first-order Pade
+    /// approximant the loop margins use; 0 for none.
+    pub loop_delay_s: f64,
     /// Feedback design.
     pub gains: FeedbackGains,
     /// Steady wind (earth axes).
@@ -418,6 +429,8 @@ impl FlightSettings {
             relative_tolerance: f.relative_tolerance,
             absolute_tolerance: f.absolute_tolerance,
             tilt_servo_bandwidth_rad_s: f.tilt_servo_bandwidth_rad_s,
+            elevator_bandwidth_rad_s: f.elevator_bandwidth_rad_s,
+            loop_delay_s: f.loop_delay_s,
             gains: FeedbackGains::from_file(f),
             steady_wind: Wind {
                 x_mps: 0.0 - f.headwind_mps,

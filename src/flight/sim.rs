@@ -122,6 +122,10 @@ pub struct Layout {
     pub tilts: usize,
     /// Rotor groups.
     pub rotors: usize,
+    /// Elevator servo states (one per elevator, or none when they are positioned at once).
+    pub servos: usize,
+    /// Delay states (one per thrust and elevator command in closed loop, or none).
+    pub delays: usize,
 }
 
 impl Layout {
@@ -146,9 +150,17 @@ impl Layout {
     pub fn energy(&self, g: usize) -> usize {
         Self::FIXED + self.tilts + self.rotors + g
     }
+    /// Position of elevator `k` behind its servo (rad).
+    pub fn servo(&self, k: usize) -> usize {
+        Self::FIXED + self.tilts + 2 * self.rotors + k
+    }
+    /// Pade delay state of feedback input `j` (thrusts, then elevators).
+    pub fn delay(&self, j: usize) -> usize {
+        Self::FIXED + self.tilts + 2 * self.rotors + self.servos + j
+    }
     /// Length of the state vector.
     pub fn len(&self) -> usize {
-        Self::FIXED + self.tilts + 2 * self.rotors
+        Self::FIXED + self.tilts + 2 * self.rotors + self.servos + self.delays
     }
     /// Never empty (rigid-body states are always there).
     pub fn is_empty(&self) -> bool {
@@ -265,6 +277,8 @@ pub struct Sys<'a> {
     mode: &'a Mode<'a>,
     wind: &'a WindModel,
     tilt_servo: f64,
+    elevator_servo: f64,
+    delay_s: f64,
     alpha_protection_rad: Option<f64>,
     min_load: f64,
     stalled_share: f64,
@@ -302,6 +316,8 @@ impl<'a> Sys<'a> {
             mode,
             wind,
             tilt_servo: settings.tilt_servo_bandwidth_rad_s,
+            elevator_servo: settings.elevator_bandwidth_rad_s,
+            delay_s: settings.loop_delay_s,
             alpha_protection_rad: settings.alpha_protection_margin_rad,
             min_load: settings.stall_load_fraction,
             stalled_share: settings.stalled_load_share,
@@ -309,6 +325,16 @@ impl<'a> Sys<'a> {
             layout: Layout {
                 tilts: v.actuators.len(),
                 rotors: v.rotors.len(),
+                servos: if settings.elevator_bandwidth_rad_s > 0.0 {
+                    v.elevators.len()
+                } else {
+                    0
+                },
+                delays: if settings.loop_delay_s > 0.0 && matches!(mode, Mode::Closed { .. }) {
+                    v.rotors.len() + v.elevators.len()
+                } else {
+                    0
+                },
             },
             scratch: RefCell::new(Scratch {
                 eval: Evaluation::default(),
@@ -524,6 +550,14 @@ impl<'a> Sys<'a> {
                 tilt_cmd[..v.actuators.len()].copy_from_slice(&ff.tilt_rad[..v.actuators.len()]);
             }
         }
+        // The feedback's sensor-plus-computation delay, as the loop margins model it: the
+        // first-order Pade approximant (1 - s T / 2) / (1 + s T / 2) of each command,
+        // out = 2 z - c with dz/dt = (c - z) 2 / T.
+        for j in 0..l.delays {
+            let z = y[l.delay(j)];
+            dy[l.delay(j)] = (cmd[j] - z) * 2.0 / self.delay_s;
+            cmd[j] = 2.0 * z - cmd[j];
+        }
         for (k, e) in v.elevators.iter().enumerate() {
             let c = cmd[nt + k];
             let x = c.clamp(e.min_rad, e.max_rad);
@@ -531,7 +565,14 @@ impl<'a> Sys<'a> {
                 d.saturated[nt + k] = true;
                 d.saturated_high[nt + k] = c > x;
             }
-            s.controls.elevator_rad[k] = x;
+            s.controls.elevator_rad[k] = if l.servos > 0 {
+                // A first-order servo towards the (limited) command.
+                let pos = y[l.servo(k)];
+                dy[l.servo(k)] = self.elevator_servo * (x - pos);
+                pos.clamp(e.min_rad, e.max_rad)
+            } else {
+                x
+            };
         }
         let state = State {
             u_mps: u,
@@ -1005,6 +1046,26 @@ fn initial_vector(sys: &Sys, initial: &State, c: &Controls) -> DVector<f64> {
             .copied()
             .unwrap_or(0.0)
             .clamp(0.0, r.thrust_max_n);
+    }
+    let nt = v.rotors.len();
+    for (k, e) in v.elevators.iter().enumerate() {
+        let x = c
+            .elevator_rad
+            .get(k)
+            .copied()
+            .unwrap_or(0.0)
+            .clamp(e.min_rad, e.max_rad);
+        if l.servos > 0 {
+            y[l.servo(k)] = x;
+        }
+        if l.delays > 0 {
+            y[l.delay(nt + k)] = x;
+        }
+    }
+    if l.delays > 0 {
+        for g in 0..nt {
+            y[l.delay(g)] = y[l.thrust(g)];
+        }
     }
     if let Mode::Closed { reference, .. } = sys.mode {
         y[Layout::PLAN_SPEED] = reference.start_speed_mps;

@@ -292,25 +292,31 @@ fn step_figures(t: &[f64], y: &[f64], t0: f64, y_final: f64) -> (f64, f64, f64) 
     ((peak.1 - y_final) / y_final, peak.0 - t0, settle - t0)
 }
 
-/// Step response of the height design with a first-order actuator lag `tau`:
-/// tau a' = a_cmd - a, a_cmd = k_h (1 - h) - k_hd h', h'' = a (classical RK4, 1 ms steps).
-fn designed_step(k_h: f64, k_hd: f64, tau: f64, t_end: f64) -> (Vec<f64>, Vec<f64>) {
-    let f = |x: [f64; 3]| {
+/// Step response of the height design with a first-order actuator lag `tau` behind the
+/// first-order Pade approximant of a delay `delay` (classical RK4, 1 ms steps):
+/// a_cmd = k_h (1 - h) - k_hd h', z' = (a_cmd - z) 2 / delay, tau a' = (2 z - a_cmd) - a,
+/// h'' = a; with `delay` = 0 the command goes to the lag directly.
+fn designed_step(k_h: f64, k_hd: f64, tau: f64, delay: f64, t_end: f64) -> (Vec<f64>, Vec<f64>) {
+    let f = |x: [f64; 4]| {
         let cmd = k_h * (1.0 - x[0]) - k_hd * x[1];
-        [x[1], x[2], (cmd - x[2]) / tau]
+        let (delayed, dz) = if delay > 0.0 {
+            (2.0 * x[3] - cmd, (cmd - x[3]) * 2.0 / delay)
+        } else {
+            (cmd, 0.0)
+        };
+        [x[1], x[2], (delayed - x[2]) / tau, dz]
     };
     let dt = 1e-3;
-    let mut x = [0.0; 3];
+    let mut x = [0.0; 4];
     let (mut t, mut y) = (vec![0.0], vec![0.0]);
     let n = (t_end / dt) as usize;
+    let add = |a: [f64; 4], b: [f64; 4], s: f64| std::array::from_fn(|i| a[i] + s * b[i]);
     for k in 1..=n {
-        let add =
-            |a: [f64; 3], b: [f64; 3], s: f64| [a[0] + s * b[0], a[1] + s * b[1], a[2] + s * b[2]];
         let k1 = f(x);
         let k2 = f(add(x, k1, 0.5 * dt));
         let k3 = f(add(x, k2, 0.5 * dt));
         let k4 = f(add(x, k3, dt));
-        for i in 0..3 {
+        for i in 0..4 {
             x[i] += dt / 6.0 * (k1[i] + 2.0 * k2[i] + 2.0 * k3[i] + k4[i]);
         }
         t.push(k as f64 * dt);
@@ -326,7 +332,8 @@ fn height_step_settles_as_designed() {
     // Mp = exp(-pi zeta / sqrt(1 - zeta^2)) and peaks at tp = pi / (w sqrt(1 - zeta^2)). The
     // height loop without integral (proportional on the error, rate on the measured height
     // rate) is exactly that closed loop by design. The design leaves out the rotors' thrust lag
-    // (0.08 s on the lift+cruise demo); with the lag added to the design model the flown step
+    // (0.08 s on the lift+cruise demo) and the loop delay (20 ms, flown as its first-order Pade
+    // approximant); with both added to the design model the flown step
     // must match it to 1 percentage point of overshoot, 5 % in peak time and 8 % in 2 %
     // settling time (the airframe's own heave response and the allocation are what remains;
     // settling time is the most sensitive of the three); the lag-free textbook figures
@@ -356,7 +363,7 @@ fn height_step_settles_as_designed() {
     let h: Vec<f64> = f.samples.iter().map(|x| x.height_m).collect();
     let (mp, tp, ts) = step_figures(&t, &h, 1.0, 1.0);
     let (kh, khd, _) = s.gains.height_gains();
-    let (td, yd) = designed_step(kh, khd, tau, 24.0);
+    let (td, yd) = designed_step(kh, khd, tau, s.loop_delay_s, 24.0);
     let (mp_d, tp_d, ts_d) = step_figures(&td, &yd, 0.0, 1.0);
     assert!(
         (mp - mp_d).abs() < 0.01,
@@ -735,4 +742,81 @@ fn a_flight_without_elevator_authority_departs_and_is_unsafe() {
         "{}",
         ok.summary.outcome_reason
     );
+}
+
+/// Largest pitch-rate excursion over the samples between `from_s` and `to_s`.
+fn pitch_rate_peak(f: &hoverline::flight::Flight, from_s: f64, to_s: f64) -> f64 {
+    f.samples
+        .iter()
+        .filter(|x| x.time_s >= from_s && x.time_s <= to_s)
+        .map(|x| x.state.q_rad_s.abs())
+        .fold(0.0, f64::max)
+}
+
+#[test]
+fn the_flight_flies_the_loop_delay_its_margins_assume() {
+    // Source: Nyquist criterion (Franklin, Powell and Emami-Naeini, Feedback Control of Dynamic
+    // Systems, ch. 6): a loop stays stable for an added delay below its delay margin and loses
+    // stability beyond it. The flight carries the same servo and Pade delay as the loop
+    // model. A loop margin is found with one loop delayed, the others nominal; the flight
+    // delays every loop at once, which can only be worse, so the smallest loop delay margin
+    // added to every loop must make a hover upset grow, while a quarter of it leaves the upset
+    // decaying (measured: the surveyor's hover loses stability between 0.4 and 0.5 of it).
+    let sc = load_scenario(&root().join("scenarios/surveyor-transition.toml")).unwrap();
+    let atm = isa(
+        sc.file.atmosphere.altitude_m,
+        sc.file.atmosphere.temperature_offset_k,
+    )
+    .unwrap();
+    let ss = SweepSettings {
+        speeds_mps: vec![0.0, 1.0, 2.0],
+        climb_rad: 0.0,
+        schedule: sc.schedule.clone(),
+        objective: sc.file.sweep.objective,
+        thresholds: sc.file.thresholds.clone(),
+        gains: Some(hoverline::control::law::FeedbackGains::from_file(
+            &sc.file.flight,
+        )),
+        loop_model: hoverline::control::loops::LoopSettings::from_file(&sc.file.flight),
+    };
+    let sweep = run_sweep(&sc.vehicle, &atm, &ss, &|| {});
+    let margin = sweep.points[0]
+        .loop_margins
+        .iter()
+        .filter_map(|m| m.delay_margin_s)
+        .fold(f64::INFINITY, f64::min);
+    assert!(margin.is_finite() && margin > 0.02, "delay margin {margin}");
+    let table = FeedforwardTable::from_points(
+        &sc.vehicle,
+        hoverline::sweep::trim_points(&sc.vehicle, &sweep.points),
+        &sc.schedule,
+    )
+    .unwrap();
+    let upset = State {
+        u_mps: 0.0,
+        w_mps: 0.0,
+        q_rad_s: 0.05,
+        theta_rad: 0.0,
+    };
+    let m = Manoeuvre::Hold {
+        speed_mps: 0.0,
+        duration_s: 12.0,
+        height_step_m: 0.0,
+        height_step_at_s: 0.0,
+    };
+    let fly_with = |extra_s: f64| {
+        let mut s = FlightSettings::from_scenario(&sc).unwrap();
+        s.loop_delay_s += extra_s;
+        fly_perturbed(&sc.vehicle, &atm, &table, &s, m, &upset, &|_| {}).unwrap()
+    };
+    let calm = fly_with(0.25 * margin);
+    assert!(calm.summary.stopped.is_none());
+    assert!(
+        pitch_rate_peak(&calm, 8.0, 12.0) < 0.1 * pitch_rate_peak(&calm, 0.0, 2.0),
+        "upset does not decay with a quarter of the delay margin"
+    );
+    let wild = fly_with(margin);
+    let grew = wild.summary.stopped.is_some()
+        || pitch_rate_peak(&wild, 8.0, 12.0) > pitch_rate_peak(&wild, 0.0, 2.0);
+    assert!(grew, "upset does not grow with the delay margin added");
 }
