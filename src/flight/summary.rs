@@ -190,8 +190,8 @@ pub struct Summary {
     pub outcome_reason: String,
     /// When (s): the stop, the first plan hold, or the end of the flight.
     pub outcome_time_s: f64,
-    /// UNSAFE findings: a departed or held flight, a pitch-control surface flown beyond stall,
-    /// flight outside the table's speeds. Empty when none.
+    /// UNSAFE findings: a departed or held flight, a surface flown beyond stall by the stall
+    /// rule, a pitch attitude outside the limits, flight outside the corridor. Empty when none.
     pub unsafe_findings: Vec<String>,
 }
 
@@ -235,8 +235,8 @@ fn outcome_of(
     )
 }
 
-/// UNSAFE findings of a flight: its outcome, stall of a surface that carries a pitch control,
-/// and corridor exits.
+/// UNSAFE findings of a flight: its outcome, any surface beyond stall by the stall rule
+/// (`margins::stall_assessment`), and corridor exits.
 fn findings(
     v: &Vehicle,
     outcome: &(String, String, f64),
@@ -253,19 +253,24 @@ fn findings(
             .any(|s| s.name == name && s.elevator.is_some())
             || (name == "airframe" && v.derivatives.as_ref().is_some_and(|d| d.elevator.is_some()))
     };
+    // Time beyond stall counts only what the stall rule calls unsafe (a wake-immersed wing
+    // part, a loaded tail, a stalled share at the threshold), so any of it is a finding.
     for x in surfaces.iter().filter(|x| x.time_beyond_stall_s > 0.0) {
-        if pitch_control(&x.name) {
-            let first = x.stalled.first();
-            out.push(format!(
-                "pitch-control surface '{}' beyond stall for {:.2} s{}",
-                x.name,
-                x.time_beyond_stall_s,
-                first.map_or(String::new(), |i| format!(
-                    " (from {:.2} s at {:.1} m/s, alpha up to {:.1} deg)",
-                    i.from_s, i.from_speed_mps, i.peak_alpha_deg
-                ))
-            ));
-        }
+        let first = x.stalled.first();
+        out.push(format!(
+            "{} '{}' beyond stall for {:.2} s{}",
+            if pitch_control(&x.name) {
+                "pitch-control surface"
+            } else {
+                "lifting surface"
+            },
+            x.name,
+            x.time_beyond_stall_s,
+            first.map_or(String::new(), |i| format!(
+                " (from {:.2} s at {:.1} m/s, alpha up to {:.1} deg)",
+                i.from_s, i.from_speed_mps, i.peak_alpha_deg
+            ))
+        ));
     }
     for i in corridor_exits {
         out.push(format!(

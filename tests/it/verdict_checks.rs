@@ -417,3 +417,46 @@ fn flight_stall_exposure_uses_the_scenario_stalled_share() {
     assert_eq!(s.stalled_load_share, 0.2);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn every_surface_flown_beyond_stall_by_the_rule_is_an_unsafe_finding() {
+    // One stall rule (README, "The stall rule"): time beyond stall counts only what the rule
+    // calls unsafe, so a flight that reports it for any surface, wing or tail, must carry an
+    // UNSAFE finding that names the surface; a flight with none reports no stall finding.
+    let dir = root();
+    let mut stalled_flights = 0;
+    for name in ["mapper-transition.toml", "courier-transition.toml"] {
+        let p = dir.join("scenarios").join(name);
+        let out = std::env::temp_dir().join(format!("hoverline-fly-{}-{name}", std::process::id()));
+        let r = crate::hardening_checks::run_in(
+            &dir,
+            &[
+                "fly",
+                p.to_str().unwrap(),
+                "--json",
+                "--out",
+                out.to_str().unwrap(),
+            ],
+        );
+        assert_eq!(r.code, Some(0), "{}", r.stderr);
+        let d: serde_json::Value = serde_json::from_str(&r.stdout).unwrap();
+        let findings: Vec<String> = d["unsafe_findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|x| x.as_str().unwrap().to_string())
+            .collect();
+        for s in d["flight"]["summary"]["surfaces"].as_array().unwrap() {
+            let surface = s["name"].as_str().unwrap();
+            let beyond = s["time_beyond_stall_s"].as_f64().unwrap() > 0.0;
+            let named = findings
+                .iter()
+                .any(|f| f.contains(&format!("'{surface}' beyond stall")));
+            assert_eq!(beyond, named, "{name}, '{surface}': {findings:?}");
+            stalled_flights += usize::from(beyond);
+        }
+        std::fs::remove_dir_all(&out).ok();
+    }
+    // The mapper's wing stalls in its slipstream at 10-14 m/s: the check has a case to judge.
+    assert!(stalled_flights > 0);
+}
