@@ -1,4 +1,4 @@
-//! Margins at a trim point (DESIGN.md §4): stall margin of every surface, thrust and power
+//! Margins at a trim point (DEVELOPERS.md, "Stall"): stall margin of every surface, thrust and power
 //! margin of every rotor group, pitch authority nose-up and nose-down, elevator travel left,
 //! static margin where wingborne, and the fastest-growing mode.
 //!
