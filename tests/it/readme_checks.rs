@@ -105,8 +105,8 @@ fn collect<T: DeserializeOwned>(path: &[Step], out: &mut BTreeSet<String>) {
                 break;
             }
             // A `kind`-tagged table: an unknown kind lists the variants.
-            let message =
-                error_of::<T>(&document(&next, &format!("kind = \"{PROBE}\"\n"))).unwrap_or_default();
+            let message = error_of::<T>(&document(&next, &format!("kind = \"{PROBE}\"\n")))
+                .unwrap_or_default();
             if message.contains(&format!("unknown variant `{PROBE}`")) {
                 out.insert(format!("{}.kind", dotted.join(".")));
                 for variant in expected_names(&message) {
@@ -185,7 +185,11 @@ fn probe_finds_nested_tables_and_tags() {
         assert!(keys.contains(k), "probe missed {k}: {keys:?}");
     }
     let keys = keys_of::<ScenarioFile>();
-    for k in ["flight.dispersions.seed", "flight.gust.shape", "transition.smoothness_deg_per_mps2"] {
+    for k in [
+        "flight.dispersions.seed",
+        "flight.gust.shape",
+        "transition.smoothness_deg_per_mps2",
+    ] {
         assert!(keys.contains(k), "probe missed {k}: {keys:?}");
     }
 }
@@ -286,7 +290,9 @@ fn long_options(help: &str) -> BTreeSet<String> {
 fn commands_table_lists_every_option() {
     let text = readme();
     let bin = env!("CARGO_BIN_EXE_hoverline");
-    for command in ["check", "trim", "sweep", "corridor", "schedule", "fly", "report"] {
+    for command in [
+        "check", "trim", "sweep", "corridor", "schedule", "fly", "report",
+    ] {
         let out = Command::new(bin)
             .args([command, "--help"])
             .output()
@@ -300,13 +306,14 @@ fn commands_table_lists_every_option() {
             .find(|l| l.starts_with(&format!("| `hoverline {command} ")))
             .unwrap_or_else(|| panic!("README commands table has no row for {command}"));
         for option in &options {
-            let found = row
-                .match_indices(option.as_str())
-                .any(|(i, _)| {
-                    let next = row[i + option.len()..].chars().next();
-                    !next.is_some_and(|c| c.is_ascii_alphanumeric() || c == '-')
-                });
-            assert!(found, "README commands table row for {command} lacks {option}");
+            let found = row.match_indices(option.as_str()).any(|(i, _)| {
+                let next = row[i + option.len()..].chars().next();
+                !next.is_some_and(|c| c.is_ascii_alphanumeric() || c == '-')
+            });
+            assert!(
+                found,
+                "README commands table row for {command} lacks {option}"
+            );
         }
         // The other way round: an option in the row that the command does not take.
         for option in long_options(row) {

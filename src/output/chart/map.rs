@@ -1,0 +1,121 @@
+//! Filled grid map (the corridor): cells coloured by the margin scale, overlays on top.
+
+use super::*;
+
+#[allow(clippy::too_many_arguments)]
+pub fn render_map(
+    path_stem: &Path,
+    title: &str,
+    x_label: &str,
+    y_label: &str,
+    x: &[f64],
+    y: &[f64],
+    value: &[Vec<Option<f64>>],
+    value_label: &str,
+    overlays: &[Series],
+) -> Result<Vec<PathBuf>, WriteError> {
+    let invalid = |msg: &str| WriteError {
+        path: path_stem.to_path_buf(),
+        source: std::io::Error::new(std::io::ErrorKind::InvalidInput, msg.to_string()),
+    };
+    let increasing = |v: &[f64]| {
+        !v.is_empty() && v.iter().all(|a| a.is_finite()) && v.windows(2).all(|w| w[1] > w[0])
+    };
+    if !increasing(x) || !increasing(y) {
+        return Err(invalid(
+            "map grid axes must be finite and strictly increasing; hint: sort the grid values",
+        ));
+    }
+    if value.len() != x.len() || value.iter().any(|r| r.len() != y.len()) {
+        return Err(invalid(
+            "map values do not match the grid; hint: give value[i][j] for every x[i] and y[j]",
+        ));
+    }
+    let fig = Figure::Map {
+        title,
+        x_label,
+        y_label,
+        x,
+        y,
+        value,
+        value_label,
+        overlays,
+    };
+    write_both(path_stem, (1400, 900), &fig)
+}
+
+pub(super) fn edges(c: &[f64]) -> Vec<f64> {
+    let n = c.len();
+    if n == 1 {
+        return vec![c[0] - 0.5, c[0] + 0.5];
+    }
+    let mut e = Vec::with_capacity(n + 1);
+    e.push(c[0] - 0.5 * (c[1] - c[0]));
+    for k in 1..n {
+        e.push(0.5 * (c[k - 1] + c[k]));
+    }
+    e.push(c[n - 1] + 0.5 * (c[n - 1] - c[n - 2]));
+    e
+}
+
+#[allow(clippy::too_many_arguments)]
+pub(super) fn draw_map<DB: DrawingBackend>(
+    body: &DrawingArea<DB, Shift>,
+    x_label: &str,
+    y_label: &str,
+    x: &[f64],
+    y: &[f64],
+    value: &[Vec<Option<f64>>],
+    value_label: &str,
+    overlays: &[Series],
+) -> Res<DB> {
+    let (w, _) = body.dim_in_pixel();
+    let (main, bar) = body.split_horizontally(w.saturating_sub(COLOUR_BAR_WIDTH));
+    let ex = edges(x);
+    let ey = edges(y);
+    let overlay = Overlay {
+        series: overlays.to_vec(),
+        x_range: Some((ex[0], ex[ex.len() - 1])),
+        y_range: Some((ey[0], ey[ey.len() - 1])),
+        ..Overlay::default()
+    };
+    let p = overlay_panel(x_label, y_label, &overlay);
+    let vr = settle(
+        finite_extent(value.iter().flatten().filter_map(|v| *v)).unwrap_or((0.0, 1.0)),
+        false,
+    );
+    let grey = value
+        .iter()
+        .flatten()
+        .any(|v| !v.is_some_and(|a| a.is_finite()));
+    let extra_legend = if grey {
+        vec![LegendItem {
+            swatch: Swatch::Fill(NO_VALUE_GREY, 1.0),
+            text: "not trimmable".into(),
+        }]
+    } else {
+        Vec::new()
+    };
+    let centres: Vec<(f64, f64)> = x
+        .iter()
+        .flat_map(|&a| y.iter().map(move |&b| (a, b)))
+        .collect();
+    let legend_h = draw_panel(&main, &p, &centres, true, extra_legend, |chart| {
+        let mut cells = Vec::with_capacity(x.len() * y.len());
+        for (i, row) in value.iter().enumerate() {
+            for (j, v) in row.iter().enumerate() {
+                let colour = match v {
+                    Some(a) if a.is_finite() => value_colour((a - vr.0) / (vr.1 - vr.0)),
+                    _ => NO_VALUE_GREY,
+                };
+                cells.push(Rectangle::new(
+                    [(ex[i], ey[j]), (ex[i + 1], ey[j + 1])],
+                    colour.filled(),
+                ));
+            }
+        }
+        chart.draw_series(cells)?;
+        Ok(())
+    })?;
+    draw_colour_bar(&bar, vr, value_label, legend_h)
+}
