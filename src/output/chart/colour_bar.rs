@@ -2,13 +2,16 @@
 
 use super::*;
 
-/// Split the body into chart and colour bar; draw the bar for `range` aligned with the
-/// chart's plotting area (the chart's legend strip height is `legend_h`).
+/// Draw the bar for `range` aligned with the chart's plotting area (the chart's legend strip
+/// height is `legend_h`), each value coloured by `colour`; `marks` are values drawn as black
+/// lines across the bar (the inside/outside edge of a margin scale).
 pub(super) fn draw_colour_bar<DB: DrawingBackend>(
     bar: &DrawingArea<DB, Shift>,
     range: (f64, f64),
     label: &str,
     legend_h: u32,
+    colour: impl Fn(f64) -> RGBColor,
+    marks: &[f64],
 ) -> Res<DB> {
     let (w, h) = bar.dim_in_pixel();
     let plot_h = h.saturating_sub(legend_h + X_LABEL_AREA + 2 * MARGIN);
@@ -48,11 +51,14 @@ pub(super) fn draw_colour_bar<DB: DrawingBackend>(
     chart.draw_series((0..n).map(|k| {
         let a = range.0 + span * k as f64 / n as f64;
         let b = range.0 + span * (k + 1) as f64 / n as f64;
-        Rectangle::new(
-            [(0.0, a), (1.0, b)],
-            value_colour((k as f64 + 0.5) / n as f64).filled(),
-        )
+        Rectangle::new([(0.0, a), (1.0, b)], colour(0.5 * (a + b)).filled())
     }))?;
+    for &m in marks.iter().filter(|m| **m > range.0 && **m < range.1) {
+        chart.draw_series(std::iter::once(PathElement::new(
+            vec![(0.0, m), (1.0, m)],
+            BLACK.stroke_width(2),
+        )))?;
+    }
     chart.draw_series(std::iter::once(Rectangle::new(
         [(0.0, range.0), (1.0, range.1)],
         BLACK.stroke_width(1),

@@ -14,6 +14,79 @@ pub(super) enum Swatch {
 pub(super) struct LegendItem {
     pub(super) swatch: Swatch,
     pub(super) text: String,
+    /// Group heading drawn before the item ("'front-rotors':"); empty when the item is not
+    /// the first of a group.
+    pub(super) heading: String,
+}
+
+impl LegendItem {
+    pub(super) fn new(swatch: Swatch, text: String) -> LegendItem {
+        LegendItem {
+            swatch,
+            text,
+            heading: String::new(),
+        }
+    }
+}
+
+/// The group of a label: a leading quoted name (`'front-rotors' thrust` is in group
+/// `'front-rotors'` with the text `thrust`), else none.
+pub(super) fn label_group(label: &str) -> Option<(&str, &str)> {
+    let rest = label.strip_prefix('\'')?;
+    let end = rest.find('\'')? + 1;
+    let (group, text) = label.split_at(end + 1);
+    let text = text.strip_prefix(' ')?;
+    (!text.is_empty()).then_some((group, text))
+}
+
+/// Merge runs of consecutive items of one group: the first carries the heading, every item
+/// keeps only its own text, so `'front' thrust, 'front' available` reads
+/// `'front': thrust, available` on one stretch of the strip.
+pub(super) fn group_items(items: Vec<LegendItem>) -> Vec<LegendItem> {
+    let groups: Vec<Option<String>> = items
+        .iter()
+        .map(|it| label_group(&it.text).map(|(g, _)| g.to_string()))
+        .collect();
+    let mut out = Vec::with_capacity(items.len());
+    for (k, mut it) in items.into_iter().enumerate() {
+        let Some(g) = &groups[k] else {
+            out.push(it);
+            continue;
+        };
+        let before = k > 0 && groups[k - 1].as_ref() == Some(g);
+        let after = groups.get(k + 1).is_some_and(|n| n.as_ref() == Some(g));
+        if before || after {
+            let text = label_group(&it.text)
+                .map(|(_, t)| t.to_string())
+                .unwrap_or_default();
+            if !before {
+                it.heading = format!("{g}:");
+            }
+            it.text = text;
+        }
+        out.push(it);
+    }
+    out
+}
+
+/// Whether two series draw the same line: the same finite points, to a part in 1e9 of their
+/// size (a later one hides the earlier).
+pub(super) fn same_line(a: &Series, b: &Series) -> bool {
+    let pts = |s: &Series| -> Vec<(f64, f64)> {
+        s.x.iter()
+            .zip(&s.y)
+            .filter(|(x, y)| x.is_finite() && y.is_finite())
+            .map(|(x, y)| (*x, *y))
+            .collect()
+    };
+    let (p, q) = (pts(a), pts(b));
+    if p.is_empty() || p.len() != q.len() {
+        return false;
+    }
+    let scale = p.iter().map(|v| v.1.abs()).fold(1e-12, f64::max);
+    p.iter()
+        .zip(&q)
+        .all(|(u, v)| u.0 == v.0 && (u.1 - v.1).abs() <= 1e-9 * scale)
 }
 
 pub(super) const SWATCH_W: i32 = 40;
@@ -35,21 +108,22 @@ pub(super) fn shade_labels(shades: &[Shade]) -> Vec<String> {
 
 pub(super) fn legend_items(p: &Panel, y_range: (f64, f64)) -> Vec<LegendItem> {
     let mut items = Vec::new();
-    for s in &p.series {
+    for (k, s) in p.series.iter().enumerate() {
         if !s.label.is_empty() {
             let any =
                 s.x.iter()
                     .zip(&s.y)
                     .any(|(a, b)| a.is_finite() && b.is_finite());
-            let text = if any {
-                s.label.clone()
-            } else {
-                format!("{} (no points)", s.label)
+            // A line drawn exactly over an earlier one hides it: say so in the legend.
+            let hides = p.series[..k]
+                .iter()
+                .find(|e| !e.label.is_empty() && same_line(e, s));
+            let text = match (any, hides) {
+                (false, _) => format!("{} (no points)", s.label),
+                (true, Some(e)) => format!("{} (same as {}, drawn over it)", s.label, e.label),
+                (true, None) => s.label.clone(),
             };
-            items.push(LegendItem {
-                swatch: Swatch::Line(s.style, LINE_WIDTH),
-                text,
-            });
+            items.push(LegendItem::new(Swatch::Line(s.style, LINE_WIDTH), text));
         }
     }
     for h in &p.hlines {
@@ -60,28 +134,25 @@ pub(super) fn legend_items(p: &Panel, y_range: (f64, f64)) -> Vec<LegendItem> {
             } else {
                 h.label.clone()
             };
-            items.push(LegendItem {
-                swatch: Swatch::Line(h.style, REF_LINE_WIDTH),
-                text,
-            });
+            items.push(LegendItem::new(Swatch::Line(h.style, REF_LINE_WIDTH), text));
         }
     }
     for v in &p.vlines {
         if !v.label.is_empty() {
-            items.push(LegendItem {
-                swatch: Swatch::Line(v.style, REF_LINE_WIDTH),
-                text: v.label.clone(),
-            });
+            items.push(LegendItem::new(
+                Swatch::Line(v.style, REF_LINE_WIDTH),
+                v.label.clone(),
+            ));
         }
     }
     let labels = shade_labels(&p.shades);
     for l in labels.iter().filter(|l| !l.is_empty()) {
-        items.push(LegendItem {
-            swatch: Swatch::Fill(shade_colour(&labels, l), SHADE_ALPHA),
-            text: l.clone(),
-        });
+        items.push(LegendItem::new(
+            Swatch::Fill(shade_colour(&labels, l), SHADE_ALPHA),
+            l.clone(),
+        ));
     }
-    items
+    group_items(items)
 }
 
 /// Where the legend items go in their strip.
@@ -110,7 +181,12 @@ pub(super) fn legend_layout<DB: DrawingBackend>(
     let (mut x, mut y) = (left, 4);
     for it in items {
         let (tw, _) = area.estimate_text_size(&it.text, &style)?;
-        let w = SWATCH_W + 8 + tw as i32 + 26;
+        let hw = if it.heading.is_empty() {
+            0
+        } else {
+            area.estimate_text_size(&it.heading, &bold(LEGEND_PX))?.0 as i32 + 8
+        };
+        let w = hw + SWATCH_W + 8 + tw as i32 + if it.heading.is_empty() { 26 } else { 18 };
         if x > left && x + w > left + width {
             x = left;
             y += LEGEND_ROW as i32;
@@ -179,8 +255,15 @@ pub(super) fn draw_legend<DB: DrawingBackend>(
     pos: &[(i32, i32)],
 ) -> Res<DB> {
     let style = font(LEGEND_PX).pos(Pos::new(HPos::Left, VPos::Center));
+    let head = bold(LEGEND_PX).pos(Pos::new(HPos::Left, VPos::Center));
     for (it, &(x, y)) in items.iter().zip(pos) {
         let yc = y + LEGEND_ROW as i32 / 2;
+        let x = if it.heading.is_empty() {
+            x
+        } else {
+            area.draw(&Text::new(it.heading.clone(), (x, yc), head.clone()))?;
+            x + area.estimate_text_size(&it.heading, &bold(LEGEND_PX))?.0 as i32 + 8
+        };
         draw_swatch(area, &it.swatch, x, yc)?;
         area.draw(&Text::new(
             it.text.clone(),

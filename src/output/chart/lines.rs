@@ -33,8 +33,6 @@ pub fn render(
     write_both(path_stem, (width, height), &fig)
 }
 
-/// Scatter of `points` = (x, y, value), each coloured by its value on the ramp of
-
 // ---------------------------------------------------------------------------------------
 // Drawing lines on a chart
 

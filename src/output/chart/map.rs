@@ -1,7 +1,15 @@
-//! Filled grid map (the corridor): cells coloured by the margin scale, overlays on top.
+//! Filled grid map (the corridor): cells coloured by the diverging margin scale, overlays on
+//! top.
 
 use super::*;
 
+/// Filled grid map: cell (i, j) is centred on (`x[i]`, `y[j]`) and filled by the colour of
+/// the normalised margin `value[i][j]` on the diverging scale of [`margin_colour`] (fixed
+/// from [`MARGIN_SCALE_MIN`] to [`MARGIN_SCALE_MAX`], 0 and -1 marked on the colour bar)
+/// (so `value` has one row per x value, each with one entry per y value); `None` cells
+/// (not trimmable) are grey. Cell edges lie halfway between neighbours. `x` and `y` must be
+/// finite and strictly increasing. `overlays` (boundaries, a schedule) are drawn on top.
+/// Writes `<stem>.png` and `<stem>.svg`.
 #[allow(clippy::too_many_arguments)]
 pub fn render_map(
     path_stem: &Path,
@@ -80,19 +88,16 @@ pub(super) fn draw_map<DB: DrawingBackend>(
         ..Overlay::default()
     };
     let p = overlay_panel(x_label, y_label, &overlay);
-    let vr = settle(
-        finite_extent(value.iter().flatten().filter_map(|v| *v)).unwrap_or((0.0, 1.0)),
-        false,
-    );
+    let vr = (MARGIN_SCALE_MIN, MARGIN_SCALE_MAX);
     let grey = value
         .iter()
         .flatten()
         .any(|v| !v.is_some_and(|a| a.is_finite()));
     let extra_legend = if grey {
-        vec![LegendItem {
-            swatch: Swatch::Fill(NO_VALUE_GREY, 1.0),
-            text: "not trimmable".into(),
-        }]
+        vec![LegendItem::new(
+            Swatch::Fill(NO_VALUE_GREY, 1.0),
+            "not trimmable".into(),
+        )]
     } else {
         Vec::new()
     };
@@ -105,7 +110,7 @@ pub(super) fn draw_map<DB: DrawingBackend>(
         for (i, row) in value.iter().enumerate() {
             for (j, v) in row.iter().enumerate() {
                 let colour = match v {
-                    Some(a) if a.is_finite() => value_colour((a - vr.0) / (vr.1 - vr.0)),
+                    Some(a) if a.is_finite() => margin_colour(*a),
                     _ => NO_VALUE_GREY,
                 };
                 cells.push(Rectangle::new(
@@ -117,5 +122,5 @@ pub(super) fn draw_map<DB: DrawingBackend>(
         chart.draw_series(cells)?;
         Ok(())
     })?;
-    draw_colour_bar(&bar, vr, value_label, legend_h)
+    draw_colour_bar(&bar, vr, value_label, legend_h, margin_colour, &[0.0, -1.0])
 }

@@ -159,4 +159,7 @@ pub use lines::render;
 pub use map::render_map;
 pub use scatter::render_scatter;
 use style::*;
-pub use style::{style_colour, style_dash, value_colour, Dash, PALETTE};
+pub use style::{
+    data_style, luminance, margin_colour, partner_style, style_colour, style_dash, value_colour,
+    Dash, Role, MARGIN_SCALE_MAX, MARGIN_SCALE_MIN, PALETTE,
+};

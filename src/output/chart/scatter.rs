@@ -2,6 +2,7 @@
 
 use super::*;
 
+/// Scatter of `points` = (x, y, value), each coloured by its value on the ramp of
 /// [`value_colour`] with a colour bar labelled `value_label`; points with a non-finite value
 /// are grey. `overlay` adds curves and reference lines. Writes `<stem>.png` and `<stem>.svg`.
 pub fn render_scatter(
@@ -23,15 +24,6 @@ pub fn render_scatter(
     };
     write_both(path_stem, (1400, 900), &fig)
 }
-
-/// Filled grid map: cell (i, j) is centred on (`x[i]`, `y[j]`) and filled by `value[i][j]`
-/// (so `value` has one row per x value, each with one entry per y value); `None` cells
-/// (not trimmable) are grey. Cell edges lie halfway between neighbours. `x` and `y` must be
-/// finite and strictly increasing. `overlays` (boundaries, a schedule) are drawn on top.
-/// Writes `<stem>.png` and `<stem>.svg`.
-
-// ---------------------------------------------------------------------------------------
-// Scatter and map
 
 pub(super) fn overlay_panel(x_label: &str, y_label: &str, o: &Overlay) -> Panel {
     Panel {
@@ -70,10 +62,10 @@ pub(super) fn draw_scatter<DB: DrawingBackend>(
     );
     let grey = shown.iter().any(|q| !q.2.is_finite());
     let extra_legend = if grey {
-        vec![LegendItem {
-            swatch: Swatch::Marker(NO_VALUE_GREY),
-            text: "no value".into(),
-        }]
+        vec![LegendItem::new(
+            Swatch::Marker(NO_VALUE_GREY),
+            "no value".into(),
+        )]
     } else {
         Vec::new()
     };
@@ -96,5 +88,12 @@ pub(super) fn draw_scatter<DB: DrawingBackend>(
         )?;
         Ok(())
     })?;
-    draw_colour_bar(&bar, vr, value_label, legend_h)
+    draw_colour_bar(
+        &bar,
+        vr,
+        value_label,
+        legend_h,
+        |v| value_colour((v - vr.0) / (vr.1 - vr.0)),
+        &[],
+    )
 }

@@ -172,3 +172,112 @@ fn scatter_and_map_render() {
     assert!(bad.is_err());
     std::fs::remove_dir_all(&dir).unwrap();
 }
+
+#[test]
+fn each_role_has_its_own_line_code() {
+    // Common practice, no source: two meanings must not share a colour and pattern, and no
+    // data series may look like a threshold or a limit.
+    let code = |s: usize| (style_colour(s), style_dash(s));
+    for (i, a) in Role::ALL.iter().enumerate() {
+        for b in &Role::ALL[i + 1..] {
+            assert_ne!(
+                code(a.style()),
+                code(b.style()),
+                "{a:?} and {b:?} look alike"
+            );
+        }
+    }
+    let vermillion = PALETTE[5];
+    for r in [Role::Threshold, Role::ThresholdLow, Role::HardLimit] {
+        assert_eq!(style_colour(r.style()), vermillion, "{r:?}");
+    }
+    for k in 0..18 {
+        assert_ne!(style_colour(data_style(k)), vermillion, "data style {k}");
+        assert_ne!(style_colour(partner_style(data_style(k))), vermillion);
+        assert_eq!(
+            style_colour(partner_style(data_style(k))),
+            style_colour(data_style(k)),
+            "a partner keeps its series' colour"
+        );
+        assert_ne!(
+            style_dash(partner_style(data_style(k))),
+            style_dash(data_style(k))
+        );
+    }
+    // The two schedules: both black, solid for the built one, dashed for the one in use.
+    assert_eq!(style_dash(Role::BuiltSchedule.style()), Dash::Solid);
+    assert_eq!(style_dash(Role::ScheduleInUse.style()), Dash::Dashed);
+}
+
+#[test]
+fn margin_scale_diverges_at_zero_and_reads_in_greyscale() {
+    // Common practice, no source: a diverging scale centred on the threshold, warm outside,
+    // cool inside, darker the farther from 0, with a lightness step at 0 so that inside
+    // against outside shows without colour.
+    let l = |m: f64| luminance(margin_colour(m));
+    for m in [-0.05, -0.5, -1.0, -2.0, -3.0, -10.0] {
+        let c = margin_colour(m);
+        assert!(c.0 > c.2, "outside {m} is warm: {c:?}");
+    }
+    for m in [0.0, 0.5, 1.0, 2.0, 9.0] {
+        let c = margin_colour(m);
+        assert!(c.2 > c.0, "inside {m} is cool: {c:?}");
+    }
+    let outside = [-0.01, -0.5, -1.0, -1.5, -2.0, -2.5, -3.0];
+    for w in outside.windows(2) {
+        assert!(l(w[1]) < l(w[0]), "darker farther outside: {w:?}");
+    }
+    let inside = [0.0, 0.5, 1.0, 1.5, 2.0];
+    for w in inside.windows(2) {
+        assert!(l(w[1]) < l(w[0]), "darker farther inside: {w:?}");
+    }
+    assert!(
+        l(0.0) - l(-0.01) > 0.15,
+        "step at 0: {} {}",
+        l(0.0),
+        l(-0.01)
+    );
+    // The hard limit is clearly darker than just outside, and far outside darker still.
+    assert!(l(-0.01) - l(-1.0) > 0.2);
+    assert!(l(-1.0) - l(-3.0) > 0.1);
+    assert_eq!(margin_colour(-30.0), margin_colour(MARGIN_SCALE_MIN));
+    assert_eq!(margin_colour(f64::NAN), NO_VALUE_GREY);
+}
+
+#[test]
+fn legend_groups_named_entries_and_marks_hidden_lines() {
+    let line = |label: &str, y: [f64; 3], style: usize| Series {
+        label: label.into(),
+        x: vec![0.0, 1.0, 2.0],
+        y: y.to_vec(),
+        style,
+    };
+    let panel = Panel {
+        series: vec![
+            line("'front' thrust", [1.0, 2.0, 3.0], 0),
+            line("'front' available", [5.0, 5.0, 4.0], 8),
+            line("'rear' thrust", [1.0, 2.0, 3.0], 4),
+            line("'rear' available", [6.0, 6.0, 6.0], 12),
+            line("single", [0.0, 0.0, 0.0], 3),
+        ],
+        ..Panel::default()
+    };
+    let items = legend_items(&panel, (0.0, 10.0));
+    let shown: Vec<(&str, &str)> = items
+        .iter()
+        .map(|i| (i.heading.as_str(), i.text.as_str()))
+        .collect();
+    assert_eq!(
+        shown,
+        vec![
+            ("'front':", "thrust"),
+            ("", "available"),
+            ("'rear':", "thrust (same as 'front' thrust, drawn over it)"),
+            ("", "available"),
+            ("", "single"),
+        ]
+    );
+    assert_eq!(label_group("'a b' c"), Some(("'a b'", "c")));
+    assert_eq!(label_group("'a'"), None);
+    assert_eq!(label_group("plain"), None);
+}
