@@ -592,6 +592,10 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
         s.iter().map(|x| x.pitch_ref_rad.to_degrees()).collect(),
         REFERENCE,
     ));
+    pitch.shades.extend(shades(
+        &saturated(sm, "pitch offset"),
+        "pitch offset at its limit",
+    ));
     let fourth = if v.actuators.is_empty() {
         let mut p = base("elevator deflection", "elevator, trailing edge down (deg)");
         for (k, e) in v.elevators.iter().enumerate() {

@@ -120,6 +120,20 @@ pub(super) fn draw_map<DB: DrawingBackend>(
             }
         }
         chart.draw_series(cells)?;
+        // A white halo under every overlay, so a black schedule stays visible on the darkest
+        // cells and a coloured boundary on cells of its own hue.
+        let (xr, yr) = (chart.x_range(), chart.y_range());
+        let b = Bounds {
+            x0: xr.start,
+            x1: xr.end,
+            y0: yr.start,
+            y1: yr.end,
+        };
+        for s in overlays {
+            for run in runs(&s.x, &s.y, &b).lines {
+                chart.draw_series(LineSeries::new(run, WHITE.stroke_width(LINE_WIDTH + 4)))?;
+            }
+        }
         Ok(())
     })?;
     draw_colour_bar(&bar, vr, value_label, legend_h, margin_colour, &[0.0, -1.0])

@@ -148,9 +148,18 @@ pub fn data_style(k: usize) -> usize {
 }
 
 /// The style of what belongs to a data series without being it (its travel limits, the thrust
-/// available to it, its reference): same colour, another pattern.
+/// available to it, its reference): same colour, dotted (dashed for a dotted series).
 pub fn partner_style(style: usize) -> usize {
-    style + 8
+    let want = if style_dash(style) == Dash::Dotted {
+        Dash::Dashed
+    } else {
+        Dash::Dotted
+    };
+    if style_dash(style + 8) == want {
+        style + 8
+    } else {
+        style + 16
+    }
 }
 
 /// Lower end of the margin scale of corridor maps: normalised margins below it take its colour.
