@@ -1,4 +1,4 @@
-//! The transition corridor (DESIGN.md §5): the map of trimmable points over airspeed and the
+//! The transition corridor (DEVELOPERS.md, "Corridor and schedule"): the map of trimmable points over airspeed and the
 //! transition variable, each point with its smallest margin, the margin that sets it and the
 //! limit that puts it outside; and the corridor's boundaries as polylines with the reason
 //! along every stretch.

@@ -1,4 +1,4 @@
-//! The 3-DOF longitudinal rigid body (DESIGN.md §3) and the loads of every component.
+//! The 3-DOF longitudinal rigid body (DEVELOPERS.md, "Conventions") and the loads of every component.
 //!
 //! Equations of motion in body axes (x forward, z down, theta nose-up):
 //!
@@ -12,7 +12,7 @@
 //! X, Z, M are the sums of the component loads, each computed at the component's own reference
 //! point with its own local flow: the air-relative velocity of the vehicle, the velocity from
 //! pitch rate at the lever arm (omega x r), downwash from an upstream surface, and rotor wake
-//! over the immersed part of a surface (DESIGN.md §3, slipstream). Rotors are evaluated first
+//! over the immersed part of a surface (DEVELOPERS.md, "Conventions", shared physics). Rotors are evaluated first
 //! because their induced velocities feed the slipstream.
 //!
 //! The derivative-model component has alpha-dot terms, which make the equations implicit in

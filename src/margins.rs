@@ -1,4 +1,4 @@
-//! Margins at a trim point (DESIGN.md §4): stall margin of every surface, thrust and power
+//! Margins at a trim point (DEVELOPERS.md, "Stall"): stall margin of every surface, thrust and power
 //! margin of every rotor group, pitch authority nose-up and nose-down, elevator travel left,
 //! static margin where wingborne, and the fastest-growing mode.
 //!
@@ -67,6 +67,9 @@ pub struct SurfaceMargin {
     /// Dynamic pressure of the most loaded wake-immersed part over the free-stream dynamic
     /// pressure; None without an immersed part or without airspeed.
     pub slipstream_q_ratio: Option<f64>,
+    /// Angle of attack of the most loaded wake-immersed part (deg), the part of
+    /// `slipstream_q_ratio`; None without an immersed part.
+    pub slipstream_alpha_deg: Option<f64>,
     /// Sum of q S over the stalled counted parts, over the weight (-).
     pub stalled_share: f64,
     /// Whether the surface's stall margin enters the verdict: it has a part whose stall alone
@@ -406,13 +409,14 @@ pub fn margins(
         } else {
             clean.alpha_rad
         };
-        let q_ratio = parts
+        let wake_part = parts
             .iter()
             .filter(|p| p.rotor.is_some() && p.fraction > 0.0)
             .max_by(|a, b| {
                 (a.dynamic_pressure_pa * a.fraction)
                     .total_cmp(&(b.dynamic_pressure_pa * b.fraction))
-            })
+            });
+        let q_ratio = wake_part
             .filter(|_| q_inf > 1e-9)
             .map(|p| p.dynamic_pressure_pa / q_inf);
         let margin = if counted {
@@ -442,6 +446,7 @@ pub fn margins(
             lift_n: load.lift_n,
             drag_n: load.drag_n,
             slipstream_q_ratio: q_ratio,
+            slipstream_alpha_deg: wake_part.map(|p| p.alpha_rad.to_degrees()),
             stalled_share: st.stalled_share,
             in_verdict: st.in_verdict,
             verdict: st.verdict,
@@ -485,6 +490,7 @@ pub fn margins(
             lift_n: dl.lift_n,
             drag_n: dl.drag_n,
             slipstream_q_ratio: None,
+            slipstream_alpha_deg: None,
             stalled_share: if m < 0.0 { 1.0 } else { 0.0 },
             in_verdict: true,
             verdict,

@@ -1,4 +1,4 @@
-//! The transition schedule (DESIGN.md §5): the transition variable (tilt, or pitch attitude for
+//! The transition schedule (DEVELOPERS.md, "Corridor and schedule"): the transition variable (tilt, or pitch attitude for
 //! a vehicle without a tilt actuator) as a function of airspeed from hover to cruise, chosen to
 //! make the smallest margin along it as large as possible.
 //!

@@ -451,7 +451,7 @@ pub struct ParametricSpec {
     pub blend_width_rad: f64,
 }
 
-/// parametric full-range polar (DESIGN.md §3): attached part + post-stall flat-plate part, continuous on the full circle
+/// parametric full-range polar (DEVELOPERS.md, "Conventions"): attached part + post-stall flat-plate part, continuous on the full circle
 ///
 /// See the module documentation for the formulas.
 #[derive(Debug, Clone, PartialEq)]

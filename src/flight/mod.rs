@@ -1,4 +1,4 @@
-//! The transition flown in time (DESIGN.md §6): the nonlinear 3-DOF model of
+//! The transition flown in time (DEVELOPERS.md, "Flight and loop margins"): the nonlinear 3-DOF model of
 //! [`crate::dynamics`] integrated with the Dormand-Prince 5(4) method (ode_solvers `Dopri5`,
 //! adaptive step, stated relative and absolute tolerances), with actuators, wind and a
 //! feedback law that follows the schedule.

@@ -768,7 +768,8 @@ pub struct Sample {
     pub thrust_n: Vec<f64>,
     /// Thrust command per rotor after limits (N).
     pub thrust_cmd_n: Vec<f64>,
-    /// Thrust available per rotor (N).
+    /// Thrust available per rotor (N): the lower of the cap and the thrust the shaft power
+    /// allows at the sample's inflow, as in the sweep (`margins::thrust_available`).
     pub thrust_available_n: Vec<f64>,
     /// Shaft power of each group (W).
     pub power_w: Vec<f64>,
@@ -866,7 +867,24 @@ fn sample_of(sys: &Sys, t: f64, y: &DVector<f64>) -> Sample {
         tilt_schedule_rad: d.tilt_schedule_rad[..na].to_vec(),
         thrust_n: (0..nt).map(|g| y[l.thrust(g)].max(0.0)).collect(),
         thrust_cmd_n: d.thrust_cmd_n[..nt].to_vec(),
-        thrust_available_n: d.thrust_available_n[..nt].to_vec(),
+        // One definition with the sweep (`margins::thrust_available`): the lower of the cap
+        // and the thrust the power allows at this inflow, whether or not the command needs it.
+        thrust_available_n: v
+            .rotors
+            .iter()
+            .zip(&e.rotors)
+            .map(|(r, rl)| {
+                crate::rotor::thrust_available(
+                    r.thrust_max_n,
+                    r.power_max_w,
+                    d.density_kg_m3,
+                    r.disk_area_m2(),
+                    rl.v_axial_mps,
+                    rl.v_inplane_mps,
+                    r.power_model,
+                )
+            })
+            .collect(),
         power_w: e.rotors.iter().map(|r| r.power_w).collect(),
         energy_j: (0..nt).map(|g| y[l.energy(g)]).collect(),
         elevator_rad: s.controls.elevator_rad.clone(),

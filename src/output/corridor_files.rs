@@ -11,7 +11,9 @@ use std::path::{Path, PathBuf};
 
 use serde::Serialize;
 
-use super::chart::{render, render_map, HLine, Panel, Series};
+use super::chart::{
+    render, render_map, HLine, Panel, Role, Series, MARGIN_SCALE_MAX, MARGIN_SCALE_MIN,
+};
 use super::files::{write_atomic, write_csv, write_json, WriteError};
 use crate::corridor::{Corridor, CorridorPoint, Limit, Variable};
 use crate::scenario::{Scenario, Schedule, Thresholds};
@@ -21,7 +23,7 @@ use crate::schedule::{to_document, BuiltSchedule};
 pub const MARGIN_PLOT_CAP: f64 = 5.0;
 
 /// Colour-scale range of the map (normalised margin); values beyond saturate.
-pub const MAP_RANGE: (f64, f64) = (-1.0, 2.0);
+pub const MAP_RANGE: (f64, f64) = (MARGIN_SCALE_MIN, MARGIN_SCALE_MAX);
 
 fn num(v: Option<f64>) -> String {
     match v {
@@ -163,12 +165,37 @@ pub struct CorridorDocument<'a> {
     pub corridor: &'a Corridor,
 }
 
+/// A schedule drawn over a corridor map: its role (which fixes its line code and legend
+/// text) and its table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScheduleLine {
+    /// Built, or in use.
+    pub role: Role,
+    /// Airspeeds (m/s).
+    pub speed_mps: Vec<f64>,
+    /// Transition variable (deg); NaN leaves a gap.
+    pub value_deg: Vec<f64>,
+}
+
+impl ScheduleLine {
+    /// The line as a series, in its role's style.
+    pub fn series(&self) -> Series {
+        Series {
+            label: self.role.label().to_string(),
+            x: self.speed_mps.clone(),
+            y: self.value_deg.clone(),
+            style: self.role.style(),
+        }
+    }
+}
+
 /// Boundary and schedule overlays of a corridor map: one series per boundary stretch, one
-/// legend entry per reason; then the given schedules.
-pub fn overlays(c: &Corridor, schedules: &[(String, Vec<f64>, Vec<f64>)]) -> Vec<Series> {
-    // Colours that read on the viridis map (yellow and black are left out; black is for the
-    // schedules); after six reasons the colours repeat with another line pattern.
-    const STYLES: [usize; 6] = [5, 2, 6, 1, 4, 3];
+/// legend entry per reason; then the schedules, each in the line code of its role.
+pub fn overlays(c: &Corridor, schedules: &[ScheduleLine]) -> Vec<Series> {
+    // Purple and green read on the margin scale's blues and oranges and on the grey, in
+    // three patterns each; then sky blue and orange. Black is for the schedules, vermillion
+    // for limits; after the list the styles repeat.
+    const STYLES: [usize; 7] = [6, 3, 22, 19, 14, 2, 1];
     let mut reasons: Vec<String> = Vec::new();
     let mut out = Vec::new();
     for b in &c.boundaries {
@@ -187,15 +214,7 @@ pub fn overlays(c: &Corridor, schedules: &[(String, Vec<f64>, Vec<f64>)]) -> Vec
             style: STYLES[k % STYLES.len()] + 8 * (k / STYLES.len()),
         });
     }
-    // Schedules drawn last, in black with distinct patterns (solid, then dashed).
-    for (n, (name, x, y)) in schedules.iter().enumerate() {
-        out.push(Series {
-            label: name.clone(),
-            x: x.clone(),
-            y: y.clone(),
-            style: if n == 0 { 0 } else { 16 },
-        });
-    }
+    out.extend(schedules.iter().map(ScheduleLine::series));
     out
 }
 
@@ -222,7 +241,7 @@ pub fn corridor_map(
     stem: &Path,
     title: &str,
     c: &Corridor,
-    schedules: &[(String, Vec<f64>, Vec<f64>)],
+    schedules: &[ScheduleLine],
 ) -> Result<Vec<PathBuf>, WriteError> {
     render_map(
         stem,
@@ -232,7 +251,7 @@ pub fn corridor_map(
         &c.speeds_mps,
         &c.values_deg,
         &map_values(c),
-        "smallest margin (margin/threshold - 1)",
+        "smallest margin (margin/threshold - 1): < 0 outside, >= 0 inside",
         &overlays(c, schedules),
     )
 }
@@ -261,8 +280,14 @@ pub fn write_corridor(dir: &Path, sc: &Scenario, c: &Corridor) -> Result<Vec<Pat
     let p = dir.join("corridor.json");
     write_json(&p, &doc)?;
     out.push(p);
-    let schedules: Vec<(String, Vec<f64>, Vec<f64>)> = own_table(&sc.schedule, c.variable)
-        .map(|t| vec![("scenario schedule".to_string(), t.speed_mps, t.value_deg)])
+    let schedules: Vec<ScheduleLine> = own_table(&sc.schedule, c.variable)
+        .map(|t| {
+            vec![ScheduleLine {
+                role: Role::ScheduleInUse,
+                speed_mps: t.speed_mps,
+                value_deg: t.value_deg,
+            }]
+        })
         .unwrap_or_default();
     let title = format!(
         "Transition corridor: {} ({})",
@@ -394,21 +419,23 @@ pub fn write_schedule(
     write_json(&p, &doc)?;
     out.push(p);
 
-    let mut schedules = vec![(
-        "built schedule".to_string(),
-        b.speed_mps.clone(),
-        b.value_deg.clone(),
-    )];
-    if let Some(o) = &b.scenario {
-        schedules.push((
-            o.label.clone(),
-            o.points.iter().map(|p| p.speed_mps).collect(),
-            o.points
-                .iter()
-                .map(|p| if p.trimmed { p.value_deg } else { f64::NAN })
-                .collect(),
-        ));
-    }
+    let built = ScheduleLine {
+        role: Role::BuiltSchedule,
+        speed_mps: b.speed_mps.clone(),
+        value_deg: b.value_deg.clone(),
+    };
+    let in_use = b.scenario.as_ref().map(|o| ScheduleLine {
+        role: Role::ScheduleInUse,
+        speed_mps: o.points.iter().map(|p| p.speed_mps).collect(),
+        value_deg: o
+            .points
+            .iter()
+            .map(|p| if p.trimmed { p.value_deg } else { f64::NAN })
+            .collect(),
+    });
+    let schedules: Vec<ScheduleLine> = std::iter::once(built.clone())
+        .chain(in_use.clone())
+        .collect();
     let title = format!(
         "Built schedule in the corridor: {} ({})",
         sc.vehicle.name, sc.file.name
@@ -422,34 +449,16 @@ pub fn write_schedule(
 
     // Margins along both schedules.
     let margin_of = |p: &CorridorPoint| p.smallest_margin.filter(|_| p.trimmed).unwrap_or(f64::NAN);
-    let mut series = vec![Series {
-        label: "built schedule".into(),
-        x: b.built.points.iter().map(|p| p.speed_mps).collect(),
-        y: b.built.points.iter().map(margin_of).collect(),
-        style: 0,
-    }];
-    let mut values = vec![Series {
-        label: "built schedule".into(),
-        x: b.speed_mps.clone(),
-        y: b.value_deg.clone(),
-        style: 0,
-    }];
-    if let Some(o) = &b.scenario {
-        series.push(Series {
-            label: o.label.clone(),
-            x: o.points.iter().map(|p| p.speed_mps).collect(),
-            y: o.points.iter().map(margin_of).collect(),
-            style: 5 + 8,
-        });
-        values.push(Series {
-            label: o.label.clone(),
-            x: o.points.iter().map(|p| p.speed_mps).collect(),
-            y: o.points
-                .iter()
-                .map(|p| if p.trimmed { p.value_deg } else { f64::NAN })
-                .collect(),
-            style: 5 + 8,
-        });
+    let margin_line = |line: &ScheduleLine, points: &[CorridorPoint]| Series {
+        x: points.iter().map(|p| p.speed_mps).collect(),
+        y: points.iter().map(margin_of).collect(),
+        ..line.series()
+    };
+    let mut series = vec![margin_line(&built, &b.built.points)];
+    let mut values = vec![built.series()];
+    if let (Some(o), Some(line)) = (&b.scenario, &in_use) {
+        series.push(margin_line(line, &o.points));
+        values.push(line.series());
     }
     // Fit the margins, but keep 0 and -1 in view and very deep values from flattening the rest.
     let lo = series
@@ -481,13 +490,13 @@ pub fn write_schedule(
             hlines: vec![
                 HLine {
                     y: 0.0,
-                    label: "at threshold".into(),
-                    style: 3 + 8,
+                    label: Role::AtThreshold.label().into(),
+                    style: Role::AtThreshold.style(),
                 },
                 HLine {
                     y: -1.0,
-                    label: "at limit".into(),
-                    style: 12,
+                    label: Role::HardLimit.label().into(),
+                    style: Role::HardLimit.style(),
                 },
             ],
             y_range: Some(margin_range),
@@ -500,4 +509,59 @@ pub fn write_schedule(
     );
     out.extend(render(&dir.join("schedule-margins"), &title, &panels, 1)?);
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn empty_corridor() -> Corridor {
+        Corridor {
+            variable: Variable::Tilt,
+            condition: "level",
+            speeds_mps: vec![0.0, 1.0],
+            values_deg: vec![0.0, 90.0],
+            climb_deg: 0.0,
+            pitch_limits_deg: None,
+            points: Vec::new(),
+            boundaries: Vec::new(),
+            guesses: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn a_schedule_keeps_its_line_code_on_every_map() {
+        // Common practice, no source: the same schedule must look the same on corridor.png
+        // (in use alone) and schedule-map.png (with the built one), and on the margins plot.
+        let line = |role| ScheduleLine {
+            role,
+            speed_mps: vec![0.0, 10.0],
+            value_deg: vec![90.0, 0.0],
+        };
+        let c = empty_corridor();
+        let alone = overlays(&c, &[line(Role::ScheduleInUse)]);
+        let both = overlays(&c, &[line(Role::BuiltSchedule), line(Role::ScheduleInUse)]);
+        let find = |s: &[Series], role: Role| {
+            s.iter()
+                .find(|x| x.label == role.label())
+                .map(|x| x.style)
+                .unwrap()
+        };
+        assert_eq!(
+            find(&alone, Role::ScheduleInUse),
+            find(&both, Role::ScheduleInUse)
+        );
+        assert_eq!(
+            find(&both, Role::ScheduleInUse),
+            Role::ScheduleInUse.style()
+        );
+        assert_eq!(
+            find(&both, Role::BuiltSchedule),
+            Role::BuiltSchedule.style()
+        );
+        assert_ne!(
+            find(&both, Role::BuiltSchedule),
+            find(&both, Role::ScheduleInUse)
+        );
+    }
 }

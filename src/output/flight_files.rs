@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 
 use serde::Serialize;
 
-use super::chart::{render, HLine, Panel, Series, Shade};
+use super::chart::{data_style, partner_style, render, HLine, Panel, Role, Series, Shade};
 use super::files::{write_csv, write_json, WriteError};
 use crate::flight::dispersion::Dispersion;
 use crate::flight::summary::{part_labels, Interval};
@@ -519,6 +519,20 @@ fn shades(iv: &[Interval], label: &str) -> Vec<Shade> {
         .collect()
 }
 
+/// Style of a reference a state follows (speed, height, pitch): the partner of the first data
+/// style.
+const REFERENCE: usize = 8;
+
+/// The saturation intervals of one kind of control (`what` starts with `kind`: "thrust",
+/// "elevator", "tilt").
+fn saturated(sm: &Summary, kind: &str) -> Vec<Interval> {
+    sm.saturations
+        .iter()
+        .filter(|x| x.what.starts_with(kind))
+        .cloned()
+        .collect()
+}
+
 /// Draw the flight plots; returns the files written.
 pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, WriteError> {
     let v = &sc.vehicle;
@@ -550,7 +564,7 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
         "reference",
         &t,
         s.iter().map(|x| x.speed_ref_mps).collect(),
-        9,
+        REFERENCE,
     ));
     let mut height = base("height above the start", "height (m)");
     height.series.push(series(
@@ -563,7 +577,7 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
         "reference",
         &t,
         s.iter().map(|x| x.height_ref_m).collect(),
-        9,
+        REFERENCE,
     ));
     let mut pitch = base("pitch attitude", "pitch (deg)");
     pitch.series.push(series(
@@ -576,44 +590,45 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
         "pitch reference (trim + offset)",
         &t,
         s.iter().map(|x| x.pitch_ref_rad.to_degrees()).collect(),
-        9,
+        REFERENCE,
+    ));
+    pitch.shades.extend(shades(
+        &saturated(sm, "pitch offset"),
+        "pitch offset at its limit",
     ));
     let fourth = if v.actuators.is_empty() {
         let mut p = base("elevator deflection", "elevator, trailing edge down (deg)");
         for (k, e) in v.elevators.iter().enumerate() {
             p.series.push(series(
-                &e.name,
+                &format!("'{}'", e.name),
                 &t,
                 s.iter().map(|x| x.elevator_rad[k].to_degrees()).collect(),
-                k,
+                data_style(k),
             ));
         }
+        p.shades
+            .extend(shades(&saturated(sm, "elevator"), "elevator at its limit"));
         p
     } else {
         let mut p = base("tilt (0 cruise, 90 hover)", "tilt (deg)");
         for (i, a) in v.actuators.iter().enumerate() {
             p.series.push(series(
-                &a.name,
+                &format!("'{}' tilt", a.name),
                 &t,
                 s.iter().map(|x| x.tilt_rad[i].to_degrees()).collect(),
-                3 * i,
+                data_style(i),
             ));
             p.series.push(series(
-                &format!("{}: schedule at the flown airspeed", a.name),
+                &format!("'{}' schedule at the flown airspeed", a.name),
                 &t,
                 s.iter()
                     .map(|x| x.tilt_schedule_rad[i].to_degrees())
                     .collect(),
-                3 * i + 2,
+                partner_style(data_style(i)),
             ));
         }
-        let rate: Vec<Interval> = sm
-            .saturations
-            .iter()
-            .filter(|x| x.what.starts_with("tilt"))
-            .cloned()
-            .collect();
-        p.shades.extend(shades(&rate, "tilt at its rate limit"));
+        p.shades
+            .extend(shades(&saturated(sm, "tilt"), "tilt at its rate limit"));
         p
     };
     out.extend(render(
@@ -668,18 +683,18 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
                 lo = lo.min(*a);
                 hi = hi.max(*a);
             }
-            p.series.push(series(label, &t, y, style));
+            p.series.push(series(label, &t, y, data_style(style)));
             style += 1;
         }
         p.hlines.push(HLine {
             y: x.stall_pos_deg,
-            label: "stall angles".into(),
-            style: 6 + 8,
+            label: format!("positive stall {:.1} deg", x.stall_pos_deg),
+            style: Role::Threshold.style(),
         });
         p.hlines.push(HLine {
             y: x.stall_neg_deg,
-            label: String::new(),
-            style: 6 + 8,
+            label: format!("negative stall {:.1} deg", x.stall_neg_deg),
+            style: Role::ThresholdLow.style(),
         });
         let pad = 0.08 * (hi - lo).max(5.0);
         p.y_range = Some((lo - pad, hi + pad));
@@ -701,53 +716,55 @@ pub fn plots(dir: &Path, sc: &Scenario, f: &Flight) -> Result<Vec<PathBuf>, Writ
     for (g, r) in v.rotors.iter().enumerate() {
         let c = r.count as f64;
         thrust.series.push(series(
-            &r.name,
+            &format!("'{}' thrust", r.name),
             &t,
             s.iter().map(|x| c * x.thrust_n[g]).collect(),
-            g,
+            data_style(g),
         ));
         thrust.series.push(series(
-            &format!("{} available", r.name),
+            &format!("'{}' available", r.name),
             &t,
             s.iter().map(|x| c * x.thrust_available_n[g]).collect(),
-            g + 16,
+            partner_style(data_style(g)),
         ));
         power.series.push(series(
-            &r.name,
+            &format!("'{}' power", r.name),
             &t,
             s.iter().map(|x| x.power_w[g]).collect(),
-            g,
+            data_style(g),
         ));
         power.hlines.push(HLine {
             y: c * r.power_max_w,
-            label: format!("{} available", r.name),
-            style: g + 16,
+            label: format!("'{}' power available", r.name),
+            style: partner_style(data_style(g)),
         });
     }
     thrust
         .shades
-        .extend(shades(&sm.saturations, "a control at its limit"));
+        .extend(shades(&saturated(sm, "thrust"), "thrust at its limit"));
     let mut panels = vec![thrust, power];
     if !v.elevators.is_empty() {
         let mut p = base("elevator deflection", "elevator, trailing edge down (deg)");
         for (k, e) in v.elevators.iter().enumerate() {
             p.series.push(series(
-                &e.name,
+                &format!("'{}'", e.name),
                 &t,
                 s.iter().map(|x| x.elevator_rad[k].to_degrees()).collect(),
-                k,
+                data_style(k),
             ));
             p.hlines.push(HLine {
                 y: e.max_rad.to_degrees(),
-                label: format!("{} limits", e.name),
-                style: k + 16,
+                label: format!("'{}' limits", e.name),
+                style: partner_style(data_style(k)),
             });
             p.hlines.push(HLine {
                 y: e.min_rad.to_degrees(),
                 label: String::new(),
-                style: k + 16,
+                style: partner_style(data_style(k)),
             });
         }
+        p.shades
+            .extend(shades(&saturated(sm, "elevator"), "elevator at its limit"));
         panels.push(p);
     }
     out.extend(render(

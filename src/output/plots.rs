@@ -4,7 +4,7 @@
 //! - `polar_<surface>`: lift, drag and moment coefficients of each surface's full-circle polar
 //!   (alpha from -180 to 180 deg), with the stall angles marked, plus a close-up around stall;
 //! - `trim_curves`: pitch attitude, tilt, rotor thrust and elevator against airspeed;
-//! - `surface_alpha`: each surface's angle of attack (clean part and most critical part)
+//! - `surface_alpha`: each surface's angle of attack (clean part and the part in a rotor wake)
 //!   against airspeed, with its stall angles and the bands where it is stalled;
 //! - `margins`: stall, thrust, power, pitch-authority and static margins and the largest
 //!   eigenvalue real part against airspeed, with the scenario thresholds and unsafe bands;
@@ -23,17 +23,13 @@ use crate::vehicle::Vehicle;
 /// Step of the polar plots (deg).
 const POLAR_STEP_DEG: f64 = 0.5;
 
-/// Styles for data series, in order; style 5 (vermillion dotted) and 13 (vermillion dashed)
-/// are kept for thresholds, so a threshold never looks like data.
-const DATA_STYLES: [usize; 6] = [0, 4, 3, 1, 6, 2];
-const THRESHOLD: usize = 5;
-const THRESHOLD_2: usize = 13;
-/// Style offset giving the same colour with another dash pattern (see [`chart`]).
-const PARTNER: usize = 8;
+use chart::{data_style, partner_style, Role};
 
-fn data_style(k: usize) -> usize {
-    DATA_STYLES[k % DATA_STYLES.len()] + PARTNER * 2 * (k / DATA_STYLES.len())
-}
+/// Thresholds and the positive stall angle; the lower threshold and the negative stall angle.
+const THRESHOLD: usize = Role::Threshold.style();
+const THRESHOLD_2: usize = Role::ThresholdLow.style();
+/// Neutral stability.
+const NEUTRAL: usize = Role::Neutral.style();
 
 /// A name made safe for a file name: letters, digits, '-' and '_' kept, the rest '_'.
 fn file_part(name: &str) -> String {
@@ -86,7 +82,7 @@ pub fn polars(v: &Vehicle, dir: &Path) -> Result<Vec<PathBuf>, WriteError> {
                 label: "moment coefficient CM (quarter chord, nose-up +)".into(),
                 x: alpha_deg.clone(),
                 y: c.iter().map(|k| k.cm).collect(),
-                style: 2 + PARTNER * 2,
+                style: 2 + 16,
             },
         ];
         let (pos, neg) = s.polar.stall_angles_rad();
@@ -315,7 +311,7 @@ fn limit_lines(ctx: &Ctx, kind: &str, names: &[String]) -> Vec<HLine> {
     let mut out = Vec::new();
     for (k, n) in names.iter().enumerate() {
         if let Some((lo, hi)) = limits(ctx, kind, n) {
-            let style = data_style(k) + PARTNER;
+            let style = partner_style(data_style(k));
             out.push(HLine {
                 y: lo,
                 label: format!("'{n}' travel {lo:.0} to {hi:.0} deg"),
@@ -371,7 +367,7 @@ fn trim_panels(ctx: &Ctx) -> Vec<Panel> {
                 }));
             thrust.series.push(ctx.series(
                 format!("'{n}' available"),
-                data_style(k) + PARTNER,
+                partner_style(data_style(k)),
                 |p| {
                     p.actuators
                         .iter()
@@ -406,14 +402,25 @@ fn alpha_panels(ctx: &Ctx, r: &SweepResult) -> Vec<Panel> {
     for name in ctx.surface_names() {
         let find = |p: &PointReport| p.surfaces.iter().find(|s| s.name == name).cloned();
         let mut panel = ctx.panel(&format!("'{name}'"), "angle of attack (deg)");
+        // The clean part (outside every wake) and the most loaded part inside a rotor wake:
+        // in hover and slow flight they differ by tens of degrees, which is the point of
+        // the slipstream.
         panel.series = vec![
-            ctx.series("clean part".into(), data_style(0), |p| {
-                find(p).map(|s| s.alpha_deg)
-            }),
-            ctx.series("most critical part".into(), data_style(1), |p| {
-                find(p).map(|s| s.critical_alpha_deg)
+            ctx.series("clean part (no wake)".into(), data_style(0), |p| {
+                find(p).map(|s| s.alpha_geometric_deg)
             }),
         ];
+        if ctx
+            .points
+            .iter()
+            .any(|p| find(p).is_some_and(|s| s.slipstream_alpha_deg.is_some()))
+        {
+            panel.series.push(
+                ctx.series("part in the slipstream".into(), data_style(1), |p| {
+                    find(p).and_then(|s| s.slipstream_alpha_deg)
+                }),
+            );
+        }
         // Stall angles: reference lines when constant over the sweep, else curves.
         let pos: Vec<f64> = ctx
             .points
@@ -487,7 +494,7 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
             .push(ctx.series(format!("'{n}'"), data_style(k), margin_if(true)));
         let unloaded = ctx.series(
             format!("'{n}' advisory only"),
-            data_style(k) + PARTNER,
+            partner_style(data_style(k)),
             margin_if(false),
         );
         if unloaded.y.iter().any(|v| v.is_finite()) {
@@ -510,7 +517,7 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
                 g(p).map(|g| 100.0 * g.thrust_margin)
             }));
         rotor.series.push(
-            ctx.series(format!("'{n}' power"), data_style(k) + PARTNER, |p| {
+            ctx.series(format!("'{n}' power"), partner_style(data_style(k)), |p| {
                 g(p).map(|g| 100.0 * g.power_margin)
             }),
         );
@@ -569,7 +576,7 @@ fn margin_panels(ctx: &Ctx, sc: &Scenario, r: &SweepResult) -> Vec<Panel> {
     eig.hlines = vec![HLine {
         y: 0.0,
         label: "neutral stability".into(),
-        style: PARTNER,
+        style: NEUTRAL,
     }];
     if th.time_to_double_s > 0.0 {
         let growth = std::f64::consts::LN_2 / th.time_to_double_s;
@@ -670,7 +677,7 @@ fn eigen_points(ctx: &Ctx, sc: &Scenario) -> (Vec<(f64, f64, f64)>, Overlay) {
         vlines: vec![VLine {
             x: 0.0,
             label: "neutral stability (real part 0)".into(),
-            style: PARTNER,
+            style: NEUTRAL,
         }],
         ..Overlay::default()
     };
@@ -794,6 +801,7 @@ mod tests {
             lift_n: 10.0,
             drag_n: 1.0,
             slipstream_q_ratio: None,
+            slipstream_alpha_deg: None,
             stalled_share: 0.0,
             in_verdict: speed > 0.5,
             verdict: crate::margins::StallVerdict::Attached,
@@ -890,8 +898,11 @@ mod tests {
         assert!(margins.contains(&format!("threshold {:.1} deg", th.stall_margin_deg)));
         assert!(margins.contains("unsafe band"));
         let trim = std::fs::read_to_string(dir.join("trim_curves.svg")).unwrap();
-        // plotters escapes the apostrophe in SVG text.
-        assert!(trim.contains("&apos;front&apos; thrust"));
+        // plotters escapes the apostrophe in SVG text; a rotor group's thrust and thrust
+        // available share one legend heading.
+        assert!(trim.contains("&apos;front&apos;:"));
+        assert!(trim.contains("\nthrust\n"));
+        assert!(trim.contains("available"));
         assert!(trim.contains("tilt angle (deg)"));
         std::fs::remove_dir_all(&dir).unwrap();
     }

@@ -3,7 +3,7 @@
 //!
 //! Every value here has passed validation in [`file`] (positive mass, ordered tables, links
 //! that point at existing components), so the physics never re-checks. Positions are in the
-//! body frame of DESIGN.md: x forward, z down, metres, from the vehicle's own datum.
+//! body frame of DEVELOPERS.md "Conventions": x forward, z down, metres, from the vehicle's own datum.
 
 pub mod file;
 pub mod summary;
@@ -35,7 +35,7 @@ impl Point {
     }
 }
 
-/// A tilt actuator: 0 = cruise, 90 deg = hover (DESIGN.md §2).
+/// A tilt actuator: 0 = cruise, 90 deg = hover (DEVELOPERS.md, "Conventions").
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct TiltActuator {
     /// Name used in files and reports.

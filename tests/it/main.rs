@@ -9,6 +9,7 @@ mod flight_checks;
 mod hardening_checks;
 mod loop_checks;
 mod mutation_checks;
+mod readme_checks;
 mod report_checks;
 mod rotor_checks;
 mod trim_checks;
