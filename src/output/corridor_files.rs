@@ -163,8 +163,12 @@ pub struct CorridorDocument<'a> {
     pub corridor: &'a Corridor,
 }
 
+/// Styles of the schedules on a corridor map, first given and the others (black solid, black
+/// dashed); the report's captions name the patterns from these.
+pub const SCHEDULE_STYLES: [usize; 2] = [0, 16];
+
 /// Boundary and schedule overlays of a corridor map: one series per boundary stretch, one
-/// legend entry per reason; then the given schedules.
+/// legend entry per reason; then the given schedules ([`SCHEDULE_STYLES`]).
 pub fn overlays(c: &Corridor, schedules: &[(String, Vec<f64>, Vec<f64>)]) -> Vec<Series> {
     // Colours that read on the viridis map (yellow and black are left out; black is for the
     // schedules); after six reasons the colours repeat with another line pattern.
@@ -187,13 +191,13 @@ pub fn overlays(c: &Corridor, schedules: &[(String, Vec<f64>, Vec<f64>)]) -> Vec
             style: STYLES[k % STYLES.len()] + 8 * (k / STYLES.len()),
         });
     }
-    // Schedules drawn last, in black with distinct patterns (solid, then dashed).
+    // Schedules drawn last, in black with distinct patterns.
     for (n, (name, x, y)) in schedules.iter().enumerate() {
         out.push(Series {
             label: name.clone(),
             x: x.clone(),
             y: y.clone(),
-            style: if n == 0 { 0 } else { 16 },
+            style: SCHEDULE_STYLES[n.min(1)],
         });
     }
     out

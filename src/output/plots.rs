@@ -26,8 +26,10 @@ const POLAR_STEP_DEG: f64 = 0.5;
 /// Styles for data series, in order; style 5 (vermillion dotted) and 13 (vermillion dashed)
 /// are kept for thresholds, so a threshold never looks like data.
 const DATA_STYLES: [usize; 6] = [0, 4, 3, 1, 6, 2];
-const THRESHOLD: usize = 5;
-const THRESHOLD_2: usize = 13;
+/// Style of a threshold line (captions name its pattern from it).
+pub const THRESHOLD: usize = 5;
+/// Style of a second threshold on the same panel (see [`THRESHOLD`]).
+pub const THRESHOLD_2: usize = 13;
 /// Style offset giving the same colour with another dash pattern (see [`chart`]).
 const PARTNER: usize = 8;
 
