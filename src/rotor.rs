@@ -261,6 +261,16 @@ pub enum ThrustLimit {
     Power,
 }
 
+impl ThrustLimit {
+    /// The limit in words, for messages.
+    pub fn words(self) -> &'static str {
+        match self {
+            ThrustLimit::Cap => "its thrust limit thrust_max_n",
+            ThrustLimit::Power => "the shaft power available",
+        }
+    }
+}
+
 /// Largest thrust (N, one rotor) that respects both the thrust cap `thrust_cap_n` (N) and the
 /// shaft power available `power_available_w` (W) at this inflow: `min(cap, T)` with
 /// `shaft_power(T) = power_available` (see [`thrust_available_with_limit`]).

@@ -88,10 +88,11 @@ const EPS: f64 = 1e-9;
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum ScheduleError {
     /// No admissible path crosses the corridor.
-    #[error("no schedule fits inside the corridor beyond {reached_mps:.2} m/s (the grid ends at {end_mps:.2} m/s){}", hint_text(.hint))]
+    #[error("{}{}", no_path_text(*.reached_mps, *.end_mps), hint_text(.hint))]
     NoPath {
-        /// Highest speed an admissible path reaches (m/s); below the first speed when none.
-        reached_mps: f64,
+        /// Highest speed an admissible path reaches (m/s); None when not even the first speed
+        /// has a point inside.
+        reached_mps: Option<f64>,
         /// Last speed of the grid (m/s).
         end_mps: f64,
         /// What to try.
@@ -100,6 +101,15 @@ pub enum ScheduleError {
     /// The grid or the settings are unusable.
     #[error("schedule settings: {0}")]
     Settings(String),
+}
+
+fn no_path_text(reached_mps: Option<f64>, end_mps: f64) -> String {
+    match reached_mps {
+        Some(v) => format!(
+            "no schedule fits inside the corridor beyond {v:.2} m/s (the grid ends at {end_mps:.2} m/s)"
+        ),
+        None => "no schedule fits inside the corridor: its first speed has no point inside".into(),
+    }
 }
 
 fn hint_text(h: &str) -> String {
@@ -449,7 +459,7 @@ fn dp(
     let end = *g.speeds_mps.last().unwrap_or(&0.0);
     let fail = |reached: Option<usize>| {
         ScheduleError::NoPath {
-        reached_mps: reached.map_or(g.speeds_mps[0] - 1.0, |k| g.speeds_mps[knots[k]]),
+        reached_mps: reached.map(|k| g.speeds_mps[knots[k]]),
         end_mps: end,
         hint: "look at corridor.png for where the corridor pinches; allow a faster rate (larger actuator rate or smaller planned acceleration) or a larger smoothness_deg_per_mps2".into(),
     }
@@ -1010,10 +1020,9 @@ pub fn build(
                  this one runs through the trimmable region and leaves the corridor at as few grid speeds as it can",
                 c.speeds_mps[0],
                 c.speeds_mps[c.speeds_mps.len() - 1],
-                if reached_mps < c.speeds_mps[0] {
-                    "no speed at all: the first speed has no point inside".to_string()
-                } else {
-                    format!("{reached_mps:.2} m/s")
+                match reached_mps {
+                    None => "no speed at all: the first speed has no point inside".to_string(),
+                    Some(v) => format!("{v:.2} m/s"),
                 }
             ));
             p

@@ -413,11 +413,11 @@ pub fn unsafe_reasons(m: &Margins, th: &Thresholds) -> (Vec<String>, Vec<String>
     for g in &m.rotors {
         if g.thrust_n > 0.0 && g.thrust_margin < th.thrust_margin {
             r.push(format!(
-                "thrust margin of '{}' {:.0} % (threshold {:.0} %, limited by {:?})",
+                "thrust margin of '{}' {:.0} % (threshold {:.0} %, limited by {})",
                 g.name,
                 100.0 * g.thrust_margin,
                 100.0 * th.thrust_margin,
-                g.limited_by
+                g.limited_by.words()
             ));
             k.push(format!("thrust margin of '{}'", g.name));
         }

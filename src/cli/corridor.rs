@@ -7,7 +7,8 @@ use clap::Args;
 
 use super::CliError;
 use hoverline::corridor::{compute, Corridor, CorridorSettings};
-use hoverline::output::corridor_files::{describe, write_corridor};
+use hoverline::output::corridor_files::write_corridor;
+use hoverline::output::text::{num, span, speed_span, speed_spans};
 use hoverline::scenario::{load_scenario, Scenario};
 
 /// Arguments of `corridor`.
@@ -87,22 +88,21 @@ pub(super) fn compute_with_bar(sc: &Scenario, s: &CorridorSettings) -> Result<Co
 pub(super) fn summary(sc: &Scenario, c: &Corridor) {
     let inside = c.points.iter().filter(|p| p.inside).count();
     let trimmed = c.points.iter().filter(|p| p.trimmed).count();
+    let last = |v: &[f64]| v.last().copied().unwrap_or(f64::NAN);
     outln!(
-        "corridor: {} ({}), {} x {} grid: {} speeds {:.1}..{:.1} m/s, {} {:.1}..{:.1} deg",
+        "corridor: {} ({}), {} x {} grid: {} speeds {}, {} {} deg",
         sc.file.name,
         sc.vehicle.name,
         c.speeds_mps.len(),
         c.values_deg.len(),
         c.speeds_mps.len(),
-        c.speeds_mps[0],
-        c.speeds_mps[c.speeds_mps.len() - 1],
+        speed_span(c.speeds_mps[0], last(&c.speeds_mps), 1),
         c.variable.name(),
-        c.values_deg[0],
-        c.values_deg[c.values_deg.len() - 1],
+        span(c.values_deg[0], last(&c.values_deg), 1),
     );
     outln!("  trim: {}", c.condition);
     if let Some((lo, hi)) = c.pitch_limits_deg {
-        outln!("  pitch attitude allowed inside: {lo:.1}..{hi:.1} deg");
+        outln!("  pitch attitude allowed inside: {} deg", span(lo, hi, 1));
     }
     outln!(
         "  {} of {} points trimmed, {} inside the corridor",
@@ -114,46 +114,57 @@ pub(super) fn summary(sc: &Scenario, c: &Corridor) {
     if bands.is_empty() {
         outln!("  no speed has a point inside the corridor");
     } else {
-        let b: Vec<String> = bands
-            .iter()
-            .map(|(a, b)| format!("{a:.2}..{b:.2}"))
-            .collect();
-        outln!("  speeds with a point inside: {} m/s", b.join(", "));
+        outln!(
+            "  speeds with a point inside: {}",
+            speed_spans(bands.iter().copied(), 2)
+        );
     }
     // Per speed a few rows: the inside range and the best point.
+    let var = c.variable.name();
     outln!(
-        "   V_mps  inside {} range (deg)           best point",
-        c.variable.name()
+        "  {:>6}  {:<22} {:>8} {:>8}  {}",
+        "speed",
+        format!("inside, {var}"),
+        format!("best {var}"),
+        "smallest",
+        "limited by"
     );
+    outln!("  {:>6}  {:<22} {:>8} {:>8}", "m/s", "deg", "deg", "margin");
     let stride = (c.speeds_mps.len() / 12).max(1);
     for i in (0..c.speeds_mps.len()).step_by(stride) {
         let ins: Vec<usize> = (0..c.values_deg.len())
             .filter(|&j| c.at(i, j).inside)
             .collect();
-        let range = if ins.is_empty() {
-            "none".to_string()
-        } else {
-            format!(
-                "{:.1}..{:.1}{}",
-                c.values_deg[ins[0]],
-                c.values_deg[ins[ins.len() - 1]],
-                if ins.len() < ins[ins.len() - 1] - ins[0] + 1 {
-                    " (gaps)"
-                } else {
-                    ""
-                }
-            )
+        let range = match (ins.first(), ins.last()) {
+            (Some(&a), Some(&b)) => format!(
+                "{}{}",
+                span(c.values_deg[a], c.values_deg[b], 1),
+                if ins.len() < b - a + 1 { " (gaps)" } else { "" }
+            ),
+            _ => "none".to_string(),
         };
         let best = ins.iter().map(|&j| c.at(i, j)).max_by(|a, b| {
             a.smallest_margin
                 .unwrap_or(f64::INFINITY)
                 .total_cmp(&b.smallest_margin.unwrap_or(f64::INFINITY))
         });
+        let (at, margin, why) = match best {
+            Some(p) => (
+                num(p.value_deg, 1),
+                p.smallest_margin.map_or("none".into(), |m| num(m, 3)),
+                p.limiting_margin
+                    .as_ref()
+                    .map_or(String::new(), |l| l.margin_label()),
+            ),
+            None => ("-".into(), "-".into(), String::new()),
+        };
         outln!(
-            "  {:6.2}  {:<32} {}",
+            "  {:>6.2}  {:<22} {:>8} {:>8}  {}",
             c.speeds_mps[i],
             range,
-            best.map_or(String::new(), describe)
+            at,
+            margin,
+            why
         );
     }
     let reasons = c.reason_counts();
@@ -180,6 +191,6 @@ pub fn run(a: CorridorArgs) -> Result<(), CliError> {
     for f in files {
         outln!("wrote {}", f.display());
     }
-    outln!("{}", hoverline::output::CAUTION);
+    outln!("caution: {}", hoverline::output::CAUTION);
     Ok(())
 }

@@ -118,25 +118,40 @@ pub fn run(args: Args) -> Result<(), CliError> {
 /// Set once stdout is found closed (a pager or `head` quit reading).
 static STDOUT_CLOSED: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
-/// Write to stdout. A closed stdout (broken pipe) is not an error of the command: printing
-/// stops quietly and the command goes on to write its files and exit 0, so
-/// `hoverline sweep s.toml | head` loses nothing.
+/// Write text for a reader to stdout, every line wrapped to
+/// [`hoverline::output::text::LINE_WIDTH`] columns (see [`write_raw`] for the closed stdout).
 pub(crate) fn write_stdout(args: std::fmt::Arguments) {
+    let text = std::fmt::format(args);
+    write_raw(&hoverline::output::text::wrap(
+        &text,
+        hoverline::output::text::LINE_WIDTH,
+    ));
+}
+
+/// Write to stdout as is. A closed stdout (broken pipe) is not an error of the command:
+/// printing stops quietly and the command goes on to write its files and exit 0, so
+/// `hoverline sweep s.toml | head` loses nothing.
+fn write_raw(text: &str) {
     use std::io::Write;
     use std::sync::atomic::Ordering;
     if STDOUT_CLOSED.load(Ordering::Relaxed) {
         return;
     }
     let mut out = std::io::stdout().lock();
-    if out.write_fmt(args).and_then(|_| out.flush()).is_err() {
+    if out
+        .write_all(text.as_bytes())
+        .and_then(|_| out.flush())
+        .is_err()
+    {
         STDOUT_CLOSED.store(true, Ordering::Relaxed);
     }
 }
 
-/// Print JSON to stdout.
+/// Print JSON to stdout, unwrapped.
 fn print_json<T: serde::Serialize>(v: &T) -> Result<(), CliError> {
-    let s = serde_json::to_string_pretty(v).map_err(|e| CliError::Analysis(e.to_string()))?;
-    outln!("{s}");
+    let mut s = serde_json::to_string_pretty(v).map_err(|e| CliError::Analysis(e.to_string()))?;
+    s.push('\n');
+    write_raw(&s);
     Ok(())
 }
 

@@ -9,6 +9,7 @@ use clap::Args;
 use super::corridor::{compute_with_bar, settings};
 use super::CliError;
 use hoverline::output::corridor_files::{describe, write_schedule};
+use hoverline::output::text::{num, signed, speed_span, speed_spans};
 use hoverline::scenario::load_scenario;
 use hoverline::schedule::{build, verdict, ScheduleSettings};
 
@@ -75,7 +76,7 @@ pub fn run(a: ScheduleArgs) -> Result<(), CliError> {
     for f in files {
         outln!("wrote {}", f.display());
     }
-    outln!("{}", hoverline::output::CAUTION);
+    outln!("caution: {}", hoverline::output::CAUTION);
     Ok(())
 }
 
@@ -89,12 +90,18 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
         b.variable.name()
     );
     outln!(
-        "  constraints: non-increasing; |d/dV| <= {:.2} deg per m/s ({:.1} deg/s at {:.2} m/s^2); |d2/dV2| <= {:.2} deg per (m/s)^2; knots every {:.2} m/s",
-        k.max_slope_deg_per_mps, k.rate_limit_deg_s, k.acceleration_mps2, k.smoothness_deg_per_mps2, k.knot_spacing_mps
+        "  constraints: never rising with speed; slope at most {:.2} deg per m/s ({:.1} deg/s at \
+         {:.2} m/s^2); curvature at most {:.2} deg per (m/s)^2; knots every {:.2} m/s",
+        k.max_slope_deg_per_mps,
+        k.rate_limit_deg_s,
+        k.acceleration_mps2,
+        k.smoothness_deg_per_mps2,
+        k.knot_spacing_mps
     );
-    outln!("   V_mps  {:>8}", format!("{}_deg", b.variable.name()));
+    outln!("  {:>6}  {:>8}", "speed", b.variable.name());
+    outln!("  {:>6}  {:>8}", "m/s", "deg");
     for (v, y) in b.speed_mps.iter().zip(&b.value_deg) {
-        outln!("  {v:6.2}  {y:8.2}");
+        outln!("  {v:6.2}  {:>8}", num(*y, 2));
     }
     match &b.left_corridor {
         None => outln!(
@@ -111,15 +118,10 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
         );
     }
     if !b.short_of_acceleration.is_empty() {
-        let s: Vec<String> = b
-            .short_of_acceleration
-            .iter()
-            .map(|(a, b)| format!("{a:.1}..{b:.1}"))
-            .collect();
         outln!(
-            "  acceleration available below the planned {:.2} m/s^2 at {} m/s",
+            "  acceleration available below the planned {:.2} m/s^2 at {}",
             k.acceleration_mps2,
-            s.join(", ")
+            speed_spans(b.short_of_acceleration.iter().copied(), 1)
         );
     }
     match &b.scenario {
@@ -136,7 +138,11 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
             for band in &b.comparison {
                 let d = match (band.mean_difference, band.largest_difference) {
                     (Some(m), Some(l)) => {
-                        format!(", margin difference mean {m:+.3}, largest {l:+.3}")
+                        format!(
+                            ", margin difference mean {}, largest {}",
+                            signed(m, 3),
+                            signed(l, 3)
+                        )
                     }
                     _ => String::new(),
                 };
@@ -146,9 +152,8 @@ fn print_text(sc: &hoverline::scenario::Scenario, b: &hoverline::schedule::Built
                     _ => "equal",
                 };
                 outln!(
-                    "    {:6.2}..{:6.2} m/s: {who}{d}",
-                    band.from_mps,
-                    band.to_mps
+                    "    {}: {who}{d}",
+                    speed_span(band.from_mps, band.to_mps, 2)
                 );
             }
             if let Some((better, why)) = verdict(b) {

@@ -274,7 +274,7 @@ fn findings(
     }
     for i in corridor_exits {
         out.push(format!(
-            "left the corridor {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {}",
+            "left the corridor {:.2} to {:.2} s ({:.1} to {:.1} m/s): {}",
             i.from_s, i.to_s, i.from_speed_mps, i.to_speed_mps, i.detail
         ));
     }
@@ -302,7 +302,7 @@ fn attitude_findings(v: &Vehicle, s: &[Sample]) -> Vec<String> {
             .expect("a run has samples");
         let (lo, hi) = v.pitch_limits_rad(worst.airspeed_mps);
         out.push(format!(
-            "pitch attitude outside the vehicle's limits {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {:.1} deg at {:.1} m/s, limits {:.1} .. {:.1} deg",
+            "pitch attitude outside the vehicle's limits {:.2} to {:.2} s ({:.1} to {:.1} m/s): {:.1} deg at {:.1} m/s, limits {:.1} to {:.1} deg",
             s[a].time_s,
             s[b].time_s,
             s[a].airspeed_mps,
@@ -853,7 +853,7 @@ pub fn summarise(
         let beyond = |k: usize| s[k].airspeed_mps > hi + 1.0 || s[k].airspeed_mps < lo - 1.0;
         for (a, b) in runs(n, beyond) {
             let detail = format!(
-                "airspeed beyond the trim table's {lo:.1} .. {hi:.1} m/s, where no trim point covers it"
+                "airspeed beyond the trim table's {lo:.1} to {hi:.1} m/s, where no trim point covers it"
             );
             let iv = interval(s, (a, b), "outside the trimmable corridor".into(), detail);
             events.push(ev(

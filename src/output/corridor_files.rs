@@ -337,7 +337,7 @@ pub fn describe(p: &CorridorPoint) -> String {
     }
     let m = p
         .smallest_margin
-        .map_or("none".to_string(), |m| format!("{m:.3}"));
+        .map_or("none".to_string(), |m| super::text::num(m, 3));
     let kind = p
         .limiting_margin
         .as_ref()

@@ -3,6 +3,45 @@
 
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use std::sync::{Mutex, MutexGuard};
+
+/// Paths of this process's unfinished output (temporaries, staging folders, run locks), kept
+/// so that an interrupt can remove them before the process ends ([`remove_unfinished`]).
+static UNFINISHED: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
+
+/// The registry of unfinished output; a panic elsewhere never makes it unusable.
+fn unfinished() -> MutexGuard<'static, Vec<PathBuf>> {
+    UNFINISHED.lock().unwrap_or_else(|e| e.into_inner())
+}
+
+/// Forget `path` in the registry of unfinished output (it was renamed into place or removed).
+fn finished(list: &mut Vec<PathBuf>, path: &Path) {
+    if let Some(i) = list.iter().rposition(|p| p == path) {
+        list.swap_remove(i);
+    }
+}
+
+/// Remove every temporary file, staging folder and run lock this process has open, and keep
+/// the registry locked so that no new one is started. Meant for an interrupt handler that ends
+/// the process right after: output already moved into place stays, a run folder keeps its old
+/// complete set (a commit in progress finishes first, since it holds the registry).
+/// Returns how many paths were removed.
+pub fn remove_unfinished() -> usize {
+    let mut list = unfinished();
+    let mut removed = 0;
+    for p in list.drain(..).rev() {
+        let gone = match std::fs::symlink_metadata(&p) {
+            Ok(m) if m.is_dir() => std::fs::remove_dir_all(&p).is_ok(),
+            Ok(_) => std::fs::remove_file(&p).is_ok(),
+            Err(_) => false,
+        };
+        removed += usize::from(gone);
+    }
+    // The guard is leaked on purpose: the process is about to end, and any thread that tries
+    // to start a new temporary waits instead of writing one that nobody would remove.
+    std::mem::forget(list);
+    removed
+}
 
 /// An error while writing results.
 #[derive(Debug, thiserror::Error)]
@@ -49,6 +88,8 @@ pub fn write_atomic_with(
         let f = w.into_inner().map_err(|e| e.into_error())?;
         f.sync_all()
     })();
+    let mut list = unfinished();
+    finished(&mut list, &tmp);
     if let Err(e) = written {
         let _ = std::fs::remove_file(&tmp);
         return Err(err(e));
@@ -75,13 +116,16 @@ fn random_u64(salt: u32) -> u64 {
 
 /// Create a new temporary file `.<name>.<random>.<suffix>` in `dir`, exclusively (create-new:
 /// an existing file or a planted symlink at that name is never opened) under an unpredictable
-/// name.
+/// name. The file is registered for [`remove_unfinished`] until [`write_atomic_with`] moves
+/// it into place (a caller that renames it itself leaves a stale entry, which is harmless).
 pub fn create_temporary(
     dir: &Path,
     name: &str,
     suffix: &str,
 ) -> std::io::Result<(PathBuf, std::fs::File)> {
     let mut last = None;
+    // Held across the create, so an interrupt sees either no file or a registered one.
+    let mut list = unfinished();
     for attempt in 0u32..16 {
         let tmp = dir.join(format!(".{name}.{:016x}.{suffix}", random_u64(attempt)));
         match std::fs::OpenOptions::new()
@@ -89,7 +133,10 @@ pub fn create_temporary(
             .create_new(true)
             .open(&tmp)
         {
-            Ok(f) => return Ok((tmp, f)),
+            Ok(f) => {
+                list.push(tmp.clone());
+                return Ok((tmp, f));
+            }
             Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => last = Some(e),
             Err(e) => return Err(e),
         }
@@ -142,13 +189,17 @@ impl RunFolder {
         ensure_dir(dir)?;
         let lock = dir.join(RUN_LOCK);
         let mut tries = 0;
+        let mut list = unfinished();
         let mut f = loop {
             match std::fs::OpenOptions::new()
                 .write(true)
                 .create_new(true)
                 .open(&lock)
             {
-                Ok(f) => break f,
+                Ok(f) => {
+                    list.push(lock.clone());
+                    break f;
+                }
                 Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists && tries == 0 => {
                     if lock_held(&lock) {
                         return Err(WriteError {
@@ -184,7 +235,13 @@ impl RunFolder {
         };
         let staging = dir.join(format!("{STAGING_PREFIX}{:016x}", random_u64(0)));
         // create_dir fails on an existing name: the folder is ours alone.
-        std::fs::create_dir(&staging).map_err(io_err(&staging))?;
+        let made = std::fs::create_dir(&staging);
+        if made.is_ok() {
+            list.push(staging.clone());
+        }
+        // The lock is removed by Drop (which takes the registry itself) if this fails.
+        drop(list);
+        made.map_err(io_err(&staging))?;
         run.staging = staging;
         Ok(run)
     }
@@ -197,6 +254,8 @@ impl RunFolder {
     /// Move every staged file into the run folder (the names in `last` after all others) and
     /// return their final paths.
     pub fn commit(self, last: &[&str]) -> Result<Vec<PathBuf>, WriteError> {
+        // An interrupt during the moves waits for them: the folder then holds the new set.
+        let _hold = unfinished();
         let mut names: Vec<std::ffi::OsString> = std::fs::read_dir(&self.staging)
             .map_err(io_err(&self.staging))?
             .filter_map(|e| e.ok().map(|e| e.file_name()))
@@ -227,10 +286,13 @@ impl RunFolder {
 
 impl Drop for RunFolder {
     fn drop(&mut self) {
+        let mut list = unfinished();
         if !self.staging.as_os_str().is_empty() {
             let _ = std::fs::remove_dir_all(&self.staging);
+            finished(&mut list, &self.staging);
         }
         let _ = std::fs::remove_file(&self.lock);
+        finished(&mut list, &self.lock);
     }
 }
 

@@ -200,14 +200,12 @@ pub struct StallComparison {
     pub note: String,
 }
 
+/// Speed bands with their unit, or `no speed`.
 fn bands_text(b: &[Band]) -> String {
     if b.is_empty() {
-        "none".into()
+        "no speed".into()
     } else {
-        b.iter()
-            .map(|x| format!("{:.1}..{:.1}", x.from_mps, x.to_mps))
-            .collect::<Vec<_>>()
-            .join(", ")
+        super::text::speed_spans(b.iter().map(|x| (x.from_mps, x.to_mps)), 1)
     }
 }
 
@@ -233,7 +231,7 @@ pub fn stall_comparison(sweep: &SweepResult, s: &Summary) -> Vec<StallComparison
             let mut notes = Vec::new();
             if bands_text(&sw) != bands_text(&x.steady_stalled) {
                 notes.push(format!(
-                    "the sweep counts every part of the surface, loaded or not; with the load rule (q S >= {:.1} % of the weight) the steady points are stalled at {} m/s",
+                    "the sweep counts every part of the surface, loaded or not; with the load rule (q S >= {:.1} % of the weight) the steady points are stalled at {}",
                     100.0 * s.stall_load_fraction,
                     bands_text(&x.steady_stalled)
                 ));
@@ -298,8 +296,11 @@ pub fn document<'a>(sc: &'a Scenario, sweep: &SweepResult, f: &'a Flight) -> Fli
 
 fn iv_text(i: &Interval) -> String {
     format!(
-        "{:7.2} ..{:7.2} s ({:5.1} ..{:5.1} m/s)  {} {}",
-        i.from_s, i.to_s, i.from_speed_mps, i.to_speed_mps, i.what, i.detail
+        "{} s ({})  {} {}",
+        super::text::span(i.from_s, i.to_s, 2),
+        super::text::speed_span(i.from_speed_mps, i.to_speed_mps, 1),
+        i.what,
+        i.detail
     )
 }
 
@@ -330,13 +331,13 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
         Some(t) => {
             let _ = writeln!(
                 o,
-                "  transition: {:.1} s ({:.1} .. {:.1} s), {:.0} m, {:.1} kJ, height change {:+.2} m",
+                "  transition: {:.1} s ({:.1} to {:.1} s), {:.0} m, {:.1} kJ, height change {} m",
                 t.time_s,
                 t.start_s,
                 t.end_s,
                 t.distance_m,
                 t.energy_j / 1000.0,
-                t.height_change_m
+                super::text::signed(t.height_change_m, 2)
             );
         }
         None if !s.transition_criterion.is_empty() => {
@@ -350,18 +351,18 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     }
     let _ = writeln!(
         o,
-        "  height: lost {:.2} m (at {:.1} s), gained {:.2} m (at {:.1} s), final error {:+.2} m",
+        "  height: lost {:.2} m (at {:.1} s), gained {:.2} m (at {:.1} s), final error {} m",
         s.height_lost_m,
         s.height_lost_at_s,
         s.height_gained_m,
         s.height_gained_at_s,
-        s.final_height_error_m
+        super::text::signed(s.final_height_error_m, 2)
     );
     let _ = writeln!(
         o,
-        "  pitch {:.1} .. {:.1} deg, largest speed error {:.2} m/s, energy {:.1} kJ",
-        s.pitch_range_deg[0],
-        s.pitch_range_deg[1],
+        "  pitch {} to {} deg, largest speed error {:.2} m/s, energy {:.1} kJ",
+        super::text::num(s.pitch_range_deg[0], 1),
+        super::text::num(s.pitch_range_deg[1], 1),
         s.largest_speed_error_mps,
         s.energy_j / 1000.0
     );
@@ -372,24 +373,31 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     );
     let _ = writeln!(
         o,
-        "  {:<14} {:>9} {:>9} {:>10} {:>10} {:>9}  flown beyond stall at",
-        "surface", "alpha_max", "alpha_min", "stall+/-", "beyond_s", "at_mps"
+        "  {:<14} {:>9} {:>9} {:>9} {:>8} {:>9}  flown beyond stall at",
+        "surface", "alpha max", "alpha min", "stall +/-", "beyond", "alpha max"
+    );
+    let _ = writeln!(
+        o,
+        "  {:<14} {:>9} {:>9} {:>9} {:>8} {:>9}",
+        "", "deg", "deg", "deg", "s", "at m/s"
     );
     for x in &s.surfaces {
-        let opt = |v: Option<f64>| v.map_or("-".to_string(), |a| format!("{a:.1}"));
+        let opt = |v: Option<f64>| v.map_or("-".to_string(), |a| super::text::num(a, 1));
         let flown: Vec<String> = x
             .stalled
             .iter()
             .map(|i| {
                 format!(
-                    "{:.1}..{:.1} m/s ({:.1}..{:.1} s)",
-                    i.from_speed_mps, i.to_speed_mps, i.from_s, i.to_s
+                    "{} ({:.1} to {:.1} s)",
+                    super::text::speed_span(i.from_speed_mps, i.to_speed_mps, 1),
+                    i.from_s,
+                    i.to_s
                 )
             })
             .collect();
         let _ = writeln!(
             o,
-            "  {:<14} {:>9} {:>9} {:>10} {:>10.2} {:>9}  {}",
+            "  {:<14} {:>9} {:>9} {:>9} {:>8.2} {:>9}  {}",
             x.name,
             opt(x.largest_alpha_deg),
             opt(x.smallest_alpha_deg),
@@ -407,7 +415,7 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     for c in stall_comparison(sweep, s) {
         let _ = writeln!(
             o,
-            "  {:<14} sweep stalled {} m/s; steady with load rule {} m/s; agreement {}",
+            "  {:<14} sweep stalled at {}; steady with load rule at {}; agreement {}",
             c.surface,
             bands_text(&c.sweep_stalled),
             bands_text(&c.steady_stalled),
@@ -421,13 +429,18 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     let _ = writeln!(o, "\nrotor groups:");
     let _ = writeln!(
         o,
-        "  {:<14} {:>12} {:>8} {:>11} {:>12} {:>8} {:>11} {:>10}",
-        "group", "peak_T_n", "at_s", "cap_n", "peak_P_w", "at_s", "avail_w", "energy_kj"
+        "  {:<14} {:>11} {:>6} {:>12} {:>10} {:>6} {:>11} {:>7}",
+        "group", "peak thrust", "at", "thrust_max", "peak power", "at", "power avail", "energy"
+    );
+    let _ = writeln!(
+        o,
+        "  {:<14} {:>11} {:>6} {:>12} {:>10} {:>6} {:>11} {:>7}",
+        "", "N", "s", "N", "W", "s", "W", "kJ"
     );
     for r in &s.rotors {
         let _ = writeln!(
             o,
-            "  {:<14} {:>12.1} {:>8.1} {:>11.1} {:>12.0} {:>8.1} {:>11.0} {:>10.1}",
+            "  {:<14} {:>11.1} {:>6.1} {:>12.1} {:>10.0} {:>6.1} {:>11.0} {:>7.1}",
             r.name,
             r.peak_thrust_n,
             r.peak_thrust_at_s,
@@ -453,8 +466,10 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
     for i in &s.corridor_exits {
         let _ = writeln!(
             o,
-            "  ! LEFT THE CORRIDOR {:.2} .. {:.2} s ({:.1} .. {:.1} m/s): {}",
-            i.from_s, i.to_s, i.from_speed_mps, i.to_speed_mps, i.detail
+            "  ! LEFT THE CORRIDOR {} s ({}): {}",
+            super::text::span(i.from_s, i.to_s, 2),
+            super::text::speed_span(i.from_speed_mps, i.to_speed_mps, 1),
+            i.detail
         );
     }
     let _ = writeln!(o, "\nverdict:");
@@ -497,7 +512,7 @@ pub fn text(sc: &Scenario, sweep: &SweepResult, f: &Flight) -> String {
         );
     }
     let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
-    o
+    super::text::wrap(&o, super::text::LINE_WIDTH)
 }
 
 fn series(label: &str, x: &[f64], y: Vec<f64>, style: usize) -> Series {

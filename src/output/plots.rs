@@ -26,8 +26,8 @@ const POLAR_STEP_DEG: f64 = 0.5;
 use chart::{data_style, partner_style, Role};
 
 /// Thresholds and the positive stall angle; the lower threshold and the negative stall angle.
-const THRESHOLD: usize = Role::Threshold.style();
-const THRESHOLD_2: usize = Role::ThresholdLow.style();
+pub const THRESHOLD: usize = Role::Threshold.style();
+pub const THRESHOLD_2: usize = Role::ThresholdLow.style();
 /// Neutral stability.
 const NEUTRAL: usize = Role::Neutral.style();
 

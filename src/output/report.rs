@@ -100,22 +100,51 @@ pub struct ReportInputs<'a> {
     pub files: &'a [String],
 }
 
-/// How serious a finding is.
+/// How serious a finding is; one rule for every verdict line ([`SEVERITY_RULE`],
+/// [`Severity::of_margin`]).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum Severity {
-    /// A hard limit is crossed or a threshold missed: the band needs design work or avoidance.
+    /// A threshold missed or a hard limit crossed at any point: a normalised margin below 0, an
+    /// untrimmable point, a surface beyond stall, an UNSAFE flight finding.
     Unsafe,
-    /// Below a threshold, or a result that needs a closer look.
+    /// Every threshold met, but the smallest normalised margin below [`CAUTION_BAND`], or a
+    /// control saturating in the flight.
     Caution,
-    /// Within the thresholds.
+    /// Every threshold met with at least [`CAUTION_BAND`] to spare.
     Ok,
     /// Information, including a part of the analysis that is not available.
     Note,
 }
 
+/// Normalised margin (margin / threshold - 1) under which a result that meets every
+/// threshold is a CAUTION: within 25 % of a threshold. Common practice, no source.
+pub const CAUTION_BAND: f64 = 0.25;
+
+/// The severity rule as the page states it.
+pub const SEVERITY_RULE: &str = "Severity, one rule for every line: UNSAFE when any point misses \
+a threshold (a margin normalised as margin / threshold \u{2212} 1 below 0, \u{2212}1 at the hard limit), \
+cannot be trimmed, has a surface beyond stall, or the flight has an UNSAFE finding (departed, \
+held short of the transition, left the corridor, a pitch-control surface flown beyond stall); \
+CAUTION when every threshold is met but the smallest normalised margin is below 0.25 (within 25 % \
+of its threshold), or a control saturates in the flight; OK when every threshold is met with at \
+least 25 % to spare; NOTE for information and for a part that is not available.";
+
 impl Severity {
-    fn word(self) -> &'static str {
+    /// The severity of a result by its smallest normalised margin over the points it covers
+    /// (None: no trimmed point) and its counts of points outside the corridor and untrimmable.
+    pub fn of_margin(smallest: Option<f64>, outside: usize, untrimmed: usize) -> Severity {
+        match smallest {
+            _ if outside > 0 || untrimmed > 0 => Severity::Unsafe,
+            None => Severity::Unsafe,
+            Some(m) if m < 0.0 => Severity::Unsafe,
+            Some(m) if m < CAUTION_BAND => Severity::Caution,
+            Some(_) => Severity::Ok,
+        }
+    }
+
+    /// The word printed on the page and the terminal.
+    pub fn word(self) -> &'static str {
         match self {
             Severity::Unsafe => "UNSAFE",
             Severity::Caution => "CAUTION",
@@ -332,6 +361,53 @@ fn worst_point_speed(inp: &ReportInputs) -> Option<f64> {
 /// The verdict: one finding per unsafe band, one per surface for stall exposure, the worst
 /// margin along the schedule in use (and the built schedule beside it), the flight, and a
 /// note for every part that is not available.
+/// Smallest normalised margin (margin / threshold - 1) of a trimmed sweep point over the
+/// margins the sweep's verdict judges: stall (of `surface` alone when given), thrust, power,
+/// pitch authority both ways, elevator travel, static margin, and the loop disk margin against
+/// the disk that covers the gain and phase thresholds. None when nothing is judged.
+fn normalised_margin(
+    p: &PointReport,
+    th: &crate::scenario::Thresholds,
+    surface: Option<&str>,
+) -> Option<f64> {
+    let m = p.margins.as_ref()?;
+    let norm = |v: f64, t: f64| (t > 0.0 && v.is_finite()).then(|| v / t - 1.0);
+    let stall_counts = surface.is_none_or(|s| s == m.stall_surface);
+    let mut all = vec![stall_counts
+        .then(|| norm(m.stall_deg, th.stall_margin_deg))
+        .flatten()];
+    if surface.is_none() {
+        let disk = crate::control::loops::disk_margin_for(th.gain_margin_db, th.phase_margin_deg);
+        all.extend([
+            norm(m.thrust, th.thrust_margin),
+            norm(m.power, th.power_margin),
+            norm(m.pitch_accel_up_rad_s2, th.pitch_accel_rad_s2),
+            norm(m.pitch_accel_down_rad_s2, th.pitch_accel_rad_s2),
+            m.elevator_deg.and_then(|e| norm(e, th.elevator_margin_deg)),
+            m.static_margin_pct
+                .and_then(|e| norm(e, th.static_margin_pct)),
+        ]);
+        all.extend(p.loop_margins.iter().filter(|l| l.in_loop).map(|l| {
+            l.worst_disk_margin
+                .or(l.disk_margin)
+                .and_then(|d| norm(d, disk))
+        }));
+    }
+    all.into_iter().flatten().min_by(f64::total_cmp)
+}
+
+/// Smallest [`normalised_margin`] over the trimmed points of the sweep.
+fn sweep_margin(
+    sw: &SweepResult,
+    th: &crate::scenario::Thresholds,
+    surface: Option<&str>,
+) -> Option<f64> {
+    sw.points
+        .iter()
+        .filter_map(|p| normalised_margin(p, th, surface))
+        .min_by(f64::total_cmp)
+}
+
 pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
     let mut out = Vec::new();
     let sw = inp.sweep;
@@ -361,14 +437,16 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
             None,
         );
     } else if sw.bands.is_empty() {
+        let smallest = sweep_margin(sw, th, None);
         push(
             &mut out,
-            Severity::Ok,
+            Severity::of_margin(smallest, 0, 0),
             "unsafe bands",
             format!(
-                "no unsafe band from {} to {} m/s against the scenario thresholds",
+                "no unsafe band from {} to {} m/s against the scenario thresholds; smallest normalised margin {}",
                 f(lo, 1),
-                f(hi, 1)
+                f(hi, 1),
+                fo(smallest, 2)
             ),
             Some((lo, hi)),
         );
@@ -440,13 +518,10 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
                 None,
             );
         } else if !e.near_stall.is_empty() || flown_stalled {
+            // A stall margin below its threshold misses a threshold: UNSAFE by the one rule.
             push(
                 &mut out,
-                if flown_stalled {
-                    Severity::Unsafe
-                } else {
-                    Severity::Caution
-                },
+                Severity::Unsafe,
                 &topic,
                 format!(
                     "'{}' not stalled in steady trim; margin below {} deg at {}{flown_text}",
@@ -477,9 +552,11 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
             } else {
                 String::new()
             };
+            let smallest = sweep_margin(sw, th, Some(&e.surface));
             push(
                 &mut out,
-                Severity::Ok,
+                // A surface that never sets the verdict margin has nothing near its threshold.
+                smallest.map_or(Severity::Ok, |m| Severity::of_margin(Some(m), 0, 0)),
                 &topic,
                 format!(
                     "'{}' keeps at least {} deg stall margin wherever it carries load{over}{flown_text}",
@@ -497,13 +574,7 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
             match &b.scenario {
                 Some(o) => {
                     let n = o.points.len();
-                    let sev = if o.untrimmed > 0 || o.outside > 0 {
-                        Severity::Unsafe
-                    } else if o.smallest_margin.is_some_and(|m| m < 0.0) {
-                        Severity::Caution
-                    } else {
-                        Severity::Ok
-                    };
+                    let sev = Severity::of_margin(o.smallest_margin, o.outside, o.untrimmed);
                     push(
                         &mut out,
                         sev,
@@ -536,11 +607,11 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
             };
             push(
                 &mut out,
-                if b.built.outside > 0 {
-                    Severity::Caution
-                } else {
-                    Severity::Note
-                },
+                Severity::of_margin(
+                    b.built.smallest_margin,
+                    b.built.outside,
+                    b.built.untrimmed,
+                ),
                 "built schedule",
                 format!(
                     "the schedule built for the largest smallest margin (schedule.toml): worst point {}; {} of {} grid speeds outside the corridor{left}",
@@ -597,7 +668,12 @@ pub fn findings(inp: &ReportInputs) -> Vec<Finding> {
                     ),
                     None => push(
                         &mut out,
-                        Severity::Caution,
+                        // Not completed is an UNSAFE finding of its own (listed above).
+                        if s.unsafe_findings.is_empty() {
+                            Severity::Unsafe
+                        } else {
+                            Severity::Note
+                        },
                         "flight",
                         format!(
                             "{} not completed in {} s ({}); height lost {} m, gained {} m",
@@ -765,8 +841,14 @@ table.data th,table.data td{border-bottom:1px solid var(--rule);padding:3px 8px;
 table.data th{text-align:left;background:var(--panel);font-weight:600}
 table.data td.n{text-align:right;white-space:nowrap}
 table.data tr.flag td{background:#fbeee6}
-table.wide{font-size:11.5px}
+table.wide{font-size:11.5px;margin:0}
 table.wide th{min-width:4.5em}
+.tablebox{overflow:auto;max-height:70vh;max-width:100%;border:1px solid var(--rule)}
+.tablebox thead th{position:sticky;top:0;z-index:2;box-shadow:0 1px 0 var(--rule)}
+.tablebox th:first-child,.tablebox td:first-child{position:sticky;left:0;z-index:1;background:var(--paper)}
+.tablebox thead th:first-child{z-index:3;background:var(--panel)}
+.tablebox tr.flag td:first-child{background:#fbeee6}
+th .unit{font-weight:400;color:var(--muted)}
 table.wide td.reasons{min-width:64em}
 details{margin:6px 0}
 details summary{cursor:pointer;font-weight:600;color:var(--accent)}
@@ -795,6 +877,15 @@ table.wide{font-size:6.5pt}
 a{color:inherit}
 }
 "#;
+
+/// The word for the line pattern of a chart style, as a caption says it.
+fn pattern(style: usize) -> &'static str {
+    match super::chart::style_dash(style) {
+        super::chart::Dash::Solid => "solid",
+        super::chart::Dash::Dashed => "dashed",
+        super::chart::Dash::Dotted => "dotted",
+    }
+}
 
 fn figure(out: &mut String, fig: &Figure, caption: &str) {
     match fig {
@@ -1011,6 +1102,7 @@ fn verdict(out: &mut String, inp: &ReportInputs) {
     );
     let fs = findings(inp);
     let c = |s: Severity| fs.iter().filter(|x| x.severity == s).count();
+    let _ = writeln!(out, "<p class=\"lead rule\">{}</p>", escape(SEVERITY_RULE));
     let _ = writeln!(
         out,
         "<p class=\"counts\">{} unsafe, {} caution, {} ok, {} notes</p>",
@@ -1074,12 +1166,15 @@ fn corridor_section(out: &mut String, inp: &ReportInputs) {
     );
     let lines = if inp.schedule.is_ok() {
         format!(
-            "Black solid: the schedule built for the largest smallest margin; black dashed: the schedule in use ({}).",
+            "Black {}: the schedule built for the largest smallest margin; black {}: the schedule in use ({}).",
+            pattern(super::chart::Role::BuiltSchedule.style()),
+            pattern(super::chart::Role::ScheduleInUse.style()),
             inp.schedule_source
         )
     } else {
         format!(
-            "Black solid: the schedule in use ({}); no schedule could be built.",
+            "Black {}: the schedule in use ({}); no schedule could be built.",
+            pattern(super::chart::Role::ScheduleInUse.style()),
             inp.schedule_source
         )
     };
@@ -1290,7 +1385,10 @@ fn modes_section(out: &mut String, inp: &ReportInputs) {
     figure(
         out,
         &inp.figures.eigenvalues,
-        "Every eigenvalue of every trimmed point in the complex plane, coloured by airspeed; right of the zero line a mode grows, right of the dashed threshold line it doubles faster than the scenario allows.",
+        &format!(
+            "Every eigenvalue of every trimmed point in the complex plane, coloured by airspeed; right of the zero line a mode grows, right of the {} threshold line it doubles faster than the scenario allows.",
+            pattern(super::plots::THRESHOLD)
+        ),
     );
     let pts = &inp.sweep.points;
     if pts.is_empty() {
@@ -1624,27 +1722,75 @@ fn flight_section(out: &mut String, inp: &ReportInputs) {
 }
 
 /// A numeric cell of the trim table shortened to about four significant digits.
-fn short_cell(c: &str) -> (String, bool) {
-    match c.parse::<f64>() {
-        Ok(v) if c.contains('.') || c.contains('e') => {
-            let a = v.abs();
-            let s = if a == 0.0 {
-                "0".to_string()
-            } else if c.contains('e') || a < 1e-3 {
-                format!("{v:.2e}")
-            } else if a >= 1000.0 {
-                format!("{v:.0}")
-            } else if a >= 100.0 {
-                format!("{v:.1}")
-            } else if a >= 10.0 {
-                format!("{v:.2}")
-            } else {
-                format!("{v:.3}")
+/// How a trim-table column is shown: its name without the unit, the unit, the factor from
+/// the file's value, and the decimals (`None`: scientific with one decimal, for residuals).
+#[derive(Debug, Clone, PartialEq)]
+struct ColumnFormat {
+    name: String,
+    unit: &'static str,
+    factor: f64,
+    digits: Option<usize>,
+}
+
+/// The format of a trim-table column from its header (units in the name, as in trim.csv):
+/// one precision per column, chosen by its unit.
+fn column_format(header: &str) -> ColumnFormat {
+    const UNITS: [(&str, &str, usize); 10] = [
+        ("_rad_s2", "rad/s\u{b2}", 2),
+        ("_per_s", "1/s", 3),
+        ("_mps", "m/s", 1),
+        ("_deg", "deg", 1),
+        ("_db", "dB", 1),
+        ("_pct", "% chord", 1),
+        ("_nm", "N m", 1),
+        ("_w", "W", 0),
+        ("_n", "N", 1),
+        ("_s", "s", 2),
+    ];
+    let fraction = header.starts_with("thrust_margin")
+        || header.starts_with("power_margin")
+        || header == "lift_share";
+    if fraction {
+        return ColumnFormat {
+            name: header.replace('_', " "),
+            unit: "%",
+            factor: 100.0,
+            digits: Some(0),
+        };
+    }
+    for (suffix, unit, digits) in UNITS {
+        if let Some(stem) = header.strip_suffix(suffix) {
+            return ColumnFormat {
+                name: stem.replace('_', " "),
+                unit,
+                factor: 1.0,
+                digits: (!header.starts_with("residual")).then_some(digits),
             };
-            (s.replacen('-', "\u{2212}", usize::from(v < 0.0)), true)
         }
-        Ok(_) => (c.replacen('-', "\u{2212}", 1), true),
-        Err(_) => (c.to_string(), false),
+    }
+    ColumnFormat {
+        name: header.replace('_', " "),
+        unit: "",
+        factor: 1.0,
+        digits: Some(3),
+    }
+}
+
+/// A trim-table cell in its column's format, and whether it is a number. Text cells are kept;
+/// an empty cell stays empty; a minus is a typographic minus; a value that rounds to zero
+/// prints unsigned.
+fn format_cell(c: &str, f: &ColumnFormat) -> (String, bool) {
+    match c.parse::<f64>() {
+        Ok(v) if v.is_finite() => {
+            let x = v * f.factor;
+            let s = match f.digits {
+                Some(d) => super::text::num(x, d),
+                None if x == 0.0 => "0".to_string(),
+                None => format!("{x:.1e}"),
+            };
+            (s.replacen('-', "\u{2212}", 1), true)
+        }
+        _ => (c.to_string(), false),
     }
 }
 
@@ -1664,10 +1810,16 @@ fn trim_table_section(out: &mut String, inp: &ReportInputs) {
         rows.len(),
         h.len()
     );
-    let mut o = String::from("<div class=\"scroll\"><table class=\"data wide\"><thead><tr>");
-    for c in &h {
-        // Break long column names at their underscores only.
-        let _ = write!(o, "<th>{}</th>", escape(c).replace('_', "_<wbr>"));
+    let formats: Vec<ColumnFormat> = h.iter().map(|c| column_format(c)).collect();
+    let mut o = String::from("<div class=\"tablebox\"><table class=\"data wide\"><thead><tr>");
+    for c in &formats {
+        // Name over unit; long names break at their spaces only.
+        let _ = write!(
+            o,
+            "<th>{}<br><span class=\"unit\">{}</span></th>",
+            escape(&c.name),
+            escape(c.unit)
+        );
     }
     o.push_str("</tr></thead><tbody>\n");
     for (r, p) in rows.iter().zip(&inp.sweep.points) {
@@ -1678,7 +1830,9 @@ fn trim_table_section(out: &mut String, inp: &ReportInputs) {
         });
         let last = r.len().saturating_sub(1);
         for (k, c) in r.iter().enumerate() {
-            let (s, n) = short_cell(c);
+            let (s, n) = formats
+                .get(k)
+                .map_or((c.clone(), false), |f| format_cell(c, f));
             let class = if k == last && !n {
                 " class=\"reasons\""
             } else if n {
@@ -1753,14 +1907,44 @@ fn assumptions_section(out: &mut String, inp: &ReportInputs) {
             format!("{} % chord", f(th.static_margin_pct, 1)),
         ),
         (
-            "time to double of an unstable mode",
-            format!("{} s", f(th.time_to_double_s, 1)),
+            "stalled load share (stalled wing and tail parts, q S over weight)",
+            format!("{} % of the weight", f(100.0 * th.stalled_load_share, 0)),
+        ),
+        (
+            "time to double of an unstable open-loop mode",
+            if th.time_to_double_s > 0.0 {
+                format!("{} s", f(th.time_to_double_s, 1))
+            } else {
+                "not judged (0): the closed loop decides".to_string()
+            },
+        ),
+        (
+            "closed loop with the feedback law, at every point",
+            "stable, and stable with control effectiveness \u{d7}0.8 and \u{d7}1.2".to_string(),
+        ),
+        (
+            "loop gain margin covered by the disk margin (each loop broken in turn)",
+            format!("\u{b1}{} dB", f(th.gain_margin_db, 1)),
+        ),
+        (
+            "loop phase margin covered by the disk margin",
+            format!("\u{b1}{} deg", f(th.phase_margin_deg, 1)),
+        ),
+        (
+            "symmetric disk margin, nominal and in the mismatch cases",
+            format!(
+                "{} (the disk that covers both)",
+                f(
+                    crate::control::loops::disk_margin_for(th.gain_margin_db, th.phase_margin_deg),
+                    2
+                )
+            ),
         ),
     ] {
         tb.row(false, vec![k.to_string(), v]);
     }
     out.push_str(&tb.html(""));
-    out.push_str("<p class=\"lead\">Default thresholds are common practice for preliminary design, not requirements; a scenario file may set its own.</p>\n");
+    out.push_str("<p class=\"lead\">Default thresholds are common practice for preliminary design, not requirements; a scenario file may set its own. The verdict's severities follow from them by the rule stated in the verdict section.</p>\n");
     out.push_str("</section>\n");
 }
 
@@ -1849,7 +2033,11 @@ pub fn html(inp: &ReportInputs) -> String {
         t[5],
         "Stall, thrust, power, pitch-authority, static and elevator margins and the largest eigenvalue real part, against the scenario thresholds.",
         &inp.figures.margins,
-        "Shading: unsafe bands (a margin below its threshold or an untrimmable point); dotted and dashed vermillion lines: thresholds.",
+        &format!(
+            "Shading: unsafe bands (a margin below its threshold or an untrimmable point); {} and {} vermillion lines: thresholds.",
+            pattern(super::plots::THRESHOLD),
+            pattern(super::plots::THRESHOLD_2)
+        ),
         inp.files,
     );
     modes_section(&mut o, inp);
@@ -1925,9 +2113,6 @@ mod tests {
         assert_eq!(f(-0.0001, 2), "0.00");
         assert_eq!(f(-1.26, 1), "\u{2212}1.3");
         assert_eq!(f(f64::NAN, 1), "\u{2013}");
-        assert_eq!(short_cell("12.345678").0, "12.35");
-        assert_eq!(short_cell("true"), ("true".to_string(), false));
-        assert_eq!(short_cell("-87.000000").0, "\u{2212}87.00");
         assert_eq!(sig(0.000346, 3), "0.000346");
         assert_eq!(sig(-2.7043, 3), "\u{2212}2.70");
         assert_eq!(spd(0.25), "0.25");

@@ -6,11 +6,144 @@ use std::fmt::Write;
 use crate::sweep::{PointReport, SweepResult};
 use crate::vehicle::summary::Summary;
 
+/// Widest line a terminal summary prints (columns); longer lines are wrapped by [`wrap`].
+pub const LINE_WIDTH: usize = 100;
+
 fn opt(v: Option<f64>, digits: usize) -> String {
     match v {
-        Some(x) if x.is_finite() => format!("{x:.digits$}"),
+        Some(x) if x.is_finite() => num(x, digits),
         _ => "-".into(),
     }
+}
+
+/// `x` with `digits` decimals, never `-0.00`: a value that rounds to zero prints unsigned.
+pub fn num(x: f64, digits: usize) -> String {
+    let s = format!("{x:.digits$}");
+    match s.strip_prefix('-') {
+        Some(rest) if rest.bytes().all(|b| b == b'0' || b == b'.') => rest.to_string(),
+        _ => s,
+    }
+}
+
+/// `x` with an explicit sign and `digits` decimals; a value that rounds to zero prints
+/// without a sign (`0.000`, never `-0.000` or `+0.000`).
+pub fn signed(x: f64, digits: usize) -> String {
+    let s = num(x, digits);
+    if s.starts_with('-') || s.bytes().all(|b| b == b'0' || b == b'.') {
+        s
+    } else {
+        format!("+{s}")
+    }
+}
+
+/// A range in words: `18.0` when both ends print the same, else `13.0 to 14.0`.
+pub fn span(from: f64, to: f64, digits: usize) -> String {
+    let (a, b) = (num(from, digits), num(to, digits));
+    if a == b {
+        a
+    } else {
+        format!("{a} to {b}")
+    }
+}
+
+/// A speed range in words: `18.0 m/s` when both ends print the same, else `13.0 to 14.0 m/s`.
+pub fn speed_span(from_mps: f64, to_mps: f64, digits: usize) -> String {
+    format!("{} m/s", span(from_mps, to_mps, digits))
+}
+
+/// Several speed ranges, or `none` (see [`speed_span`]).
+pub fn speed_spans(spans: impl IntoIterator<Item = (f64, f64)>, digits: usize) -> String {
+    let v: Vec<String> = spans
+        .into_iter()
+        .map(|(a, b)| speed_span(a, b, digits))
+        .collect();
+    if v.is_empty() {
+        "none".into()
+    } else {
+        v.join(", ")
+    }
+}
+
+/// Wrap every line of `text` longer than `width` columns at spaces. A continuation line
+/// starts under the last column the line opened before the break (the text after its last run
+/// of two or more spaces, when that lies in the left half), else four columns in from the
+/// line's own indent. A single word longer than the width (a path) is left whole.
+pub fn wrap(text: &str, width: usize) -> String {
+    let mut o = String::with_capacity(text.len() + text.len() / 16);
+    for (n, line) in text.split('\n').enumerate() {
+        if n > 0 {
+            o.push('\n');
+        }
+        wrap_line(line, width, &mut o);
+    }
+    o
+}
+
+fn wrap_line(line: &str, width: usize, o: &mut String) {
+    let chars: Vec<char> = line.trim_end().chars().collect();
+    if chars.len() <= width {
+        o.push_str(line);
+        return;
+    }
+    let indent = chars.iter().take_while(|c| **c == ' ').count();
+    // Where the last column starts: after the last run of >= 2 spaces before the width.
+    let mut hang = indent + 4;
+    let mut k = indent;
+    while k + 1 < chars.len().min(width) {
+        if chars[k] == ' ' && chars[k + 1] == ' ' {
+            let mut e = k;
+            while e < chars.len() && chars[e] == ' ' {
+                e += 1;
+            }
+            if e < width / 2 {
+                hang = e;
+            }
+            k = e;
+        } else {
+            k += 1;
+        }
+    }
+    let mut start = 0;
+    let mut first = true;
+    loop {
+        let lead = if first { 0 } else { hang };
+        let room = width.saturating_sub(lead).max(1);
+        let rest = &chars[start..];
+        if rest.len() <= room {
+            push_piece(o, lead, rest);
+            return;
+        }
+        // The last space inside the room (not inside the indent), else the first after it.
+        let floor = if first { indent + 1 } else { 1 };
+        let cut = (floor..=room.min(rest.len() - 1))
+            .rev()
+            .find(|&i| rest[i] == ' ')
+            .or_else(|| (room..rest.len()).find(|&i| rest[i] == ' '));
+        let Some(cut) = cut else {
+            push_piece(o, lead, rest);
+            return;
+        };
+        let mut end = cut;
+        while end > 0 && rest[end - 1] == ' ' {
+            end -= 1;
+        }
+        push_piece(o, lead, &rest[..end]);
+        o.push('\n');
+        let mut next = cut;
+        while next < rest.len() && rest[next] == ' ' {
+            next += 1;
+        }
+        start += next;
+        first = false;
+        if start >= chars.len() {
+            return;
+        }
+    }
+}
+
+fn push_piece(o: &mut String, lead: usize, piece: &[char]) {
+    o.extend(std::iter::repeat_n(' ', lead));
+    o.extend(piece.iter());
 }
 
 /// The `check` summary.
@@ -98,7 +231,7 @@ pub fn check(s: &Summary) -> String {
         }
     }
     let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
-    o
+    wrap(&o, LINE_WIDTH)
 }
 
 /// One trim point in full.
@@ -115,7 +248,7 @@ pub fn point(p: &PointReport) -> String {
             let _ = writeln!(o, "  - {r}");
         }
         let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
-        return o;
+        return wrap(&o, LINE_WIDTH);
     }
     let _ = writeln!(
         o,
@@ -131,7 +264,7 @@ pub fn point(p: &PointReport) -> String {
     for a in &p.actuators {
         let _ = writeln!(
             o,
-            "  {:<10} {:<16} {:>9.2} {:<3} (limits {:.1} .. {:.1})",
+            "  {:<10} {:<16} {:>9.2} {:<3} (limits {:.1} to {:.1})",
             a.kind, a.name, a.value, a.unit, a.min, a.max
         );
     }
@@ -246,49 +379,68 @@ pub fn point(p: &PointReport) -> String {
         }
     }
     let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
-    o
+    wrap(&o, LINE_WIDTH)
 }
 
-/// The compact sweep table and the unsafe bands.
+/// The compact sweep table (one line per speed, at most [`LINE_WIDTH`] columns), the unsafe
+/// bands with their reasons, the untrimmable speeds with theirs, and the stall exposure.
 pub fn sweep(name: &str, r: &SweepResult) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "sweep: {name}");
     let _ = writeln!(
         o,
-        "  {:>6} {:>4} {:>7} {:>7} {:>8} {:>8} {:>7} {:>7} {:>7} {:>8}  worst surface / reasons",
-        "V_mps", "ok", "pitch", "alpha", "stall_d", "thrust%", "power%", "q+", "q-", "maxRe"
+        "  {:>6}  {:<7} {:>6} {:>6} {:>6} {:>6} {:>6} {:>7} {:>7} {:>7}  critical surface",
+        "speed",
+        "verdict",
+        "pitch",
+        "alpha",
+        "stall",
+        "thrust",
+        "power",
+        "nose-up",
+        "nose-dn",
+        "growth",
     );
+    let _ = writeln!(
+        o,
+        "  {:>6}  {:<7} {:>6} {:>6} {:>6} {:>6} {:>6} {:>7} {:>7} {:>7}",
+        "m/s", "", "deg", "deg", "deg", "% left", "% left", "rad/s^2", "rad/s^2", "1/s"
+    );
+    let mut untrimmed = Vec::new();
     for p in &r.points {
         match &p.margins {
             Some(m) => {
                 let _ = writeln!(
                     o,
-                    "  {:>6.1} {:>4} {:>7} {:>7} {:>8} {:>8.0} {:>7.0} {:>7.2} {:>7.2} {:>8.3}  {}{}",
+                    "  {:>6.1}  {:<7} {:>6} {:>6} {:>6} {:>6.0} {:>6.0} {:>7} {:>7} {:>7}  {}",
                     p.speed_mps,
-                    if p.reasons.is_empty() { "yes" } else { "!" },
+                    if p.reasons.is_empty() { "ok" } else { "UNSAFE" },
                     opt(p.pitch_deg, 1),
                     opt(p.alpha_deg, 1),
                     opt(m.stall_deg.is_finite().then_some(m.stall_deg), 1),
                     100.0 * m.thrust,
                     100.0 * m.power,
-                    m.pitch_accel_up_rad_s2,
-                    m.pitch_accel_down_rad_s2,
-                    m.max_real_per_s,
+                    num(m.pitch_accel_up_rad_s2, 2),
+                    num(m.pitch_accel_down_rad_s2, 2),
+                    num(m.max_real_per_s, 3),
                     m.stall_surface,
-                    if p.reason_kinds.is_empty() { String::new() } else { format!(" | {}", p.reason_kinds.join(", ")) }
                 );
             }
             None => {
                 let _ = writeln!(
                     o,
-                    "  {:>6.1} {:>4}  untrimmable: {}",
-                    p.speed_mps,
-                    "no",
-                    p.reasons.join("; ")
+                    "  {:>6.1}  {:<7} (reasons below)",
+                    p.speed_mps, "NO TRIM"
                 );
+                untrimmed.push(p);
             }
         }
     }
+    let _ = writeln!(
+        o,
+        "  stall: smallest stall margin; thrust, power: margin left; nose-up, nose-dn: pitch\n  \
+         acceleration available; growth: largest real part of the open-loop roots (> 0 grows)"
+    );
     let _ = writeln!(o, "\nunsafe bands:");
     if r.bands.is_empty() {
         let _ = writeln!(o, "  none");
@@ -296,33 +448,34 @@ pub fn sweep(name: &str, r: &SweepResult) -> String {
     for b in &r.bands {
         let _ = writeln!(
             o,
-            "  {:>5.1} .. {:>5.1} m/s: {}",
-            b.from_mps,
-            b.to_mps,
+            "  {}: {}",
+            speed_span(b.from_mps, b.to_mps, 1),
             b.reasons.join(", ")
         );
     }
+    if !untrimmed.is_empty() {
+        let _ = writeln!(o, "\nuntrimmable:");
+        for p in untrimmed {
+            let _ = writeln!(o, "  {:.1} m/s: {}", p.speed_mps, p.reasons.join("; "));
+        }
+    }
     let _ = writeln!(o, "\nstall exposure:");
     for s in &r.stall_exposure {
-        let fmt = |bands: &[crate::sweep::Band]| {
+        let spans = |bands: &[crate::sweep::Band]| {
             if bands.is_empty() {
-                "none".to_string()
+                "never".to_string()
             } else {
-                bands
-                    .iter()
-                    .map(|b| format!("{:.1}..{:.1}", b.from_mps, b.to_mps))
-                    .collect::<Vec<_>>()
-                    .join(", ")
+                speed_spans(bands.iter().map(|b| (b.from_mps, b.to_mps)), 1)
             }
         };
         let _ = writeln!(
             o,
-            "  {:<16} stalled: {} m/s; near stall: {} m/s",
+            "  {:<16} stalled: {}; near stall: {}",
             s.surface,
-            fmt(&s.stalled),
-            fmt(&s.near_stall)
+            spans(&s.stalled),
+            spans(&s.near_stall)
         );
     }
     let _ = writeln!(o, "\ncaution: {}", super::CAUTION);
-    o
+    wrap(&o, LINE_WIDTH)
 }

@@ -219,7 +219,7 @@ pub fn summarise(v: &Vehicle, atm: &Atmosphere) -> Summary {
         let hi = hover_x.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
         if v.cg.x_m < lo - 1e-9 || v.cg.x_m > hi + 1e-9 {
             warnings.push(format!(
-                "CG at x = {:.3} m lies outside the hover rotor footprint ({lo:.3}..{hi:.3} m): hover pitch trim needs a lifting surface or cannot be reached",
+                "CG at x = {:.3} m lies outside the hover rotor footprint ({lo:.3} to {hi:.3} m): hover pitch trim needs a lifting surface or cannot be reached",
                 v.cg.x_m
             ));
         }

@@ -348,6 +348,36 @@ fn dynamic_programming_equals_brute_force() {
     assert!(cases >= 12);
 }
 
+#[test]
+fn admissibility_oracle_refuses_increasing_steep_and_kinked_schedules() {
+    // Common practice, no source: a transition schedule runs from hover towards cruise, so the
+    // tilt never rises with speed; |dy/dV| at most the rate limit over the planned acceleration
+    // and the second difference 2 (s2 - s1) / (h1 + h2) at most the smoothness bound. Hand
+    // values on knots 0, 5, 10 m/s with a slope limit of 0.1 rad per m/s and a curvature limit
+    // of 0.01 rad per (m/s)^2.
+    let speeds = [0.0, 5.0, 10.0];
+    let knots = [0, 1, 2];
+    let c = Constraints {
+        max_slope_rad_per_mps: 0.1,
+        max_curvature_rad_per_mps2: 0.01,
+        knot_stride: 1,
+        end_value_rad: None,
+    };
+    // Straight decrease, 0.05 rad per m/s: admissible.
+    assert!(admissible(&speeds, &knots, &[1.0, 0.75, 0.5], &c));
+    // Held constant: admissible (monotone non-increasing).
+    assert!(admissible(&speeds, &knots, &[1.0, 1.0, 1.0], &c));
+    // Any rise, however small (1e-3 rad over 5 m/s), is refused.
+    assert!(!admissible(&speeds, &knots, &[1.0, 1.001, 0.5], &c));
+    assert!(!admissible(&speeds, &knots, &[0.5, 0.75, 1.0], &c));
+    // 0.6 rad over 5 m/s is 0.12 rad per m/s, above the rate limit.
+    assert!(!admissible(&speeds, &knots, &[1.0, 0.4, 0.4], &c));
+    // Slopes -0.01 then -0.09 rad per m/s: second difference 0.08 / 5 = 0.016 > 0.01.
+    assert!(!admissible(&speeds, &knots, &[1.0, 0.95, 0.5], &c));
+    // Slopes -0.04 then -0.06: 0.02 / 5 = 0.004, inside the bound.
+    assert!(admissible(&speeds, &knots, &[1.0, 0.8, 0.5], &c));
+}
+
 fn constraints_strategy() -> impl Strategy<Value = Constraints> {
     (0.05f64..0.5, 0.02f64..0.4, 1usize..4).prop_map(|(s, k, st)| Constraints {
         max_slope_rad_per_mps: s,

@@ -509,6 +509,79 @@ fn a_closed_stdout_ends_printing_quietly_and_loses_no_file() {
     let _ = std::fs::remove_dir_all(&d);
 }
 
+/// Whether `line` writes a range as `a..b` or `a .. b` (numbers around two dots).
+fn numeric_range(line: &str) -> bool {
+    let b = line.as_bytes();
+    (0..b.len().saturating_sub(1)).any(|i| {
+        let dots = b[i] == b'.' && b[i + 1] == b'.' && b.get(i + 2) != Some(&b'.');
+        let before = b[..i].iter().rev().find(|c| **c != b' ');
+        let after = b[i + 2..].iter().find(|c| **c != b' ');
+        dots && (i == 0 || b[i - 1] != b'.')
+            && before.is_some_and(u8::is_ascii_digit)
+            && after.is_some_and(|c| c.is_ascii_digit() || *c == b'-')
+    })
+}
+
+#[test]
+fn terminal_tables_fit_in_100_columns_and_use_words() {
+    // Common practice, no source: a terminal summary a reader can take in keeps to about 100
+    // columns (long reasons go under the table, wrapped) and uses words, not codes. Every demo
+    // scenario, every table-printing command; the corridor grid is coarsened (the layout does
+    // not depend on the grid) to keep the check quick. Only the `wrote <path>` lines may be
+    // longer, as a path is never broken.
+    let d = scratch("width");
+    let mut demos: Vec<PathBuf> = std::fs::read_dir(root().join("scenarios"))
+        .unwrap()
+        .flatten()
+        .map(|e| e.path())
+        .filter(|p| p.extension().is_some_and(|x| x == "toml"))
+        .collect();
+    demos.sort();
+    assert!(demos.len() >= 5, "{demos:?}");
+    let coarse = ["--speed-step", "2", "--value-step", "5"];
+    let mut lines = 0;
+    for demo in &demos {
+        let demo = demo.to_string_lossy();
+        for cmd in ["sweep", "corridor", "schedule", "fly"] {
+            let mut args = vec![cmd, &demo, "--out", "o"];
+            if cmd == "corridor" || cmd == "schedule" {
+                args.extend(coarse);
+            }
+            let r = run_in(&d, &args);
+            assert_eq!(r.code, Some(0), "{args:?}: {}", r.stderr);
+            for line in r.stdout.lines().filter(|l| !l.starts_with("wrote ")) {
+                lines += 1;
+                let width = line.chars().count();
+                assert!(width <= 100, "{cmd} {demo}: {width} columns: {line}");
+                for code in ["maxRe", "none m/s", "limited by Cap", "beyond -"] {
+                    assert!(!line.contains(code), "{cmd} {demo}: '{code}' in: {line}");
+                }
+                let negative_zero = line.split_whitespace().any(|w| {
+                    let w = w.trim_end_matches([',', ';', ')', '%']);
+                    w.strip_prefix('-').is_some_and(|r| {
+                        r.starts_with('0') && r.bytes().all(|c| c == b'0' || c == b'.')
+                    })
+                });
+                assert!(!negative_zero, "{cmd} {demo}: a negative zero in: {line}");
+                // A range whose ends print alike is a single speed.
+                for w in line.split_whitespace().collect::<Vec<_>>().windows(3) {
+                    let same = w[1] == "to" && w[0] == w[2].trim_end_matches([',', ';']);
+                    assert!(!same, "{cmd} {demo}: a range of one speed in: {line}");
+                }
+                assert!(!numeric_range(line), "{cmd} {demo}: '..' range in: {line}");
+                let cells: Vec<&str> = line.split_whitespace().collect();
+                let coded = cells.get(1).is_some_and(|c| *c == "yes" || *c == "!");
+                assert!(
+                    !(cmd == "sweep" && coded),
+                    "{cmd} {demo}: a code in the verdict column: {line}"
+                );
+            }
+        }
+    }
+    assert!(lines > 500, "{lines} lines checked");
+    let _ = std::fs::remove_dir_all(&d);
+}
+
 /// The `"scenario"` named in a JSON file of a run folder.
 fn scenario_in(path: &Path) -> String {
     let text = std::fs::read_to_string(path).unwrap();
@@ -586,9 +659,20 @@ fn report_runs_are_written_as_a_set() {
         .unwrap();
     assert!(killed.success());
     let mut child = child;
-    let _ = child.wait().unwrap();
+    let status = child.wait().unwrap();
     let now = one_complete_set(&d.join("o"));
     assert!(now == first || now == "run-slow", "{now}");
+    // Common practice, no source: an interrupted command cleans up after itself and exits
+    // with 128 + SIGINT; no staging folder, lock or temporary is left in the folder.
+    let finished_first = now == "run-slow" && status.code() == Some(0);
+    assert!(status.code() == Some(130) || finished_first, "{status:?}");
+    let leftovers: Vec<String> = std::fs::read_dir(d.join("o"))
+        .unwrap()
+        .flatten()
+        .map(|e| e.file_name().to_string_lossy().to_string())
+        .filter(|n| n.starts_with('.'))
+        .collect();
+    assert!(leftovers.is_empty(), "left behind: {leftovers:?}");
     // The next run clears what the interrupted one left behind.
     let r = run_in(&d, &["report", &a, "--out", "o"]);
     assert_eq!(r.code, Some(0), "{}", r.stderr);

@@ -180,6 +180,40 @@ fn neutral_point_matches_the_wing_tail_formula() {
 }
 
 #[test]
+fn neutral_point_moves_forward_with_the_tail_efficiency() {
+    // Source: Etkin and Reid, Dynamics of Flight, 3rd ed. 1996, sec. 2.3 (from memory): with a
+    // tail dynamic-pressure ratio eta the tail terms carry eta, h_n = h_ac + eta V_H (a_t / a)
+    // (1 - d eps/d alpha) with a = a_w (1 + eta (a_t / a_w)(S_t / S)(1 - d eps/d alpha)).
+    // Same vehicle as the check above (a_w = 5.02655, a_t = 4.18879 /rad, d eps/d alpha = 0.4,
+    // V_H = 0.5, S_t/S = 0.2, h_ac = 0.25, CHECK-VALUES section 6), eta = 0.9 on the tail:
+    // a = 5.47894 /rad and h_n = 0.25 + 0.45 x 0.76453 x 0.6 = 0.45642 (hand value). Without eta
+    // the result would be 0.4773; the tolerance 0.5 % of chord tells the two apart.
+    let mut v = vehicle("neutral-point.toml");
+    let tail = v
+        .surfaces
+        .iter_mut()
+        .find(|s| s.name == "tail")
+        .expect("tail");
+    tail.dynamic_pressure_ratio = 0.9;
+    let atm = Atmosphere::sea_level();
+    let s = trimmed(&v, &atm, &level(40.0, 0.0));
+    let k = static_margin(&v, &atm, &s.state, &s.controls).expect("wingborne");
+    let c = v.reference.chord_m;
+    let h_cg = (v.reference.leading_edge_x_m - v.cg.x_m) / c;
+    let a_w: f64 = 5.02655;
+    let a_t: f64 = 4.18879;
+    let eta: f64 = 0.9;
+    let a = a_w * (1.0 + eta * (a_t / a_w) * 0.2 * (1.0 - 0.4));
+    let expected = 0.25 + eta * 0.5 * (a_t / a) * (1.0 - 0.4);
+    assert!((expected - 0.45642).abs() < 1e-4, "closed form {expected}");
+    let h_n = h_cg + k;
+    assert!(
+        (h_n - expected).abs() < 0.005,
+        "neutral point {h_n} vs {expected}"
+    );
+}
+
+#[test]
 fn derivative_model_reproduces_the_textbook_general_aviation_modes() {
     // Source: Nelson, Flight Stability and Automatic Control, 2nd ed. 1998, ch. 4 example
     // (Navion), coefficients and eigenvalues as restated in CHECK-VALUES section 6 ("from the
