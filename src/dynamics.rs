@@ -197,6 +197,12 @@ pub struct RotorLoad {
     pub performance: rotor::RotorPerformance,
     /// Shaft power of the whole group (W).
     pub power_w: f64,
+    /// `sin(axis_rad)`, kept so the next evaluation with the same axis need not compute it.
+    #[serde(skip)]
+    pub axis_sin: f64,
+    /// `cos(axis_rad)`, as `axis_sin`.
+    #[serde(skip)]
+    pub axis_cos: f64,
 }
 
 /// Loads of the stability-derivative component.
@@ -246,6 +252,10 @@ pub struct Evaluation {
     pub derivatives: Option<DerivativeLoad>,
     /// Total shaft power (W).
     pub power_w: f64,
+    /// Per tilt actuator `[angle, sin, cos]` of the last evaluation: the tilt is held within
+    /// most trims, so its sine and cosine are computed again only when the angle changes.
+    #[serde(skip)]
+    pub tilt_trig: Vec<[f64; 3]>,
 }
 
 impl Evaluation {
@@ -270,12 +280,33 @@ pub fn wrap_pi(a: f64) -> f64 {
     }
 }
 
-/// Current position of a point riding on actuator `act` (or fixed).
-fn placed(v: &Vehicle, p: Point, act: Option<usize>, tilt: &[f64]) -> Point {
+/// Current position of a point riding on actuator `act` (or fixed), with `trig[a]` the
+/// `[angle, sin, cos]` of each actuator's tilt (as [`Point::rotated_about`]).
+fn placed(v: &Vehicle, p: Point, act: Option<usize>, trig: &[[f64; 3]]) -> Point {
     match act {
-        Some(a) => p.rotated_about(v.actuators[a].pivot, tilt[a]),
+        Some(a) => {
+            let [_, s, c] = trig[a];
+            let pivot = v.actuators[a].pivot;
+            let dx = p.x_m - pivot.x_m;
+            let dz = p.z_m - pivot.z_m;
+            Point {
+                x_m: pivot.x_m + dx * c + dz * s,
+                z_m: pivot.z_m - dx * s + dz * c,
+            }
+        }
         None => p,
     }
+}
+
+/// `(sin, cos)` of `angle`, taken from `last = [angle, sin, cos]` when the angle is the same
+/// (bit for bit) and computed (and kept) otherwise.
+#[inline]
+fn sin_cos_memo(angle: f64, last: &mut [f64; 3]) -> (f64, f64) {
+    if last[0].to_bits() != angle.to_bits() {
+        let (s, c) = angle.sin_cos();
+        *last = [angle, s, c];
+    }
+    (last[1], last[2])
 }
 
 /// Resolve lift and drag into body axes for a local flow at body angle `flow_rad`
@@ -283,6 +314,12 @@ fn placed(v: &Vehicle, p: Point, act: Option<usize>, tilt: &[f64]) -> Point {
 #[inline]
 fn lift_drag_to_body(lift: f64, drag: f64, flow_rad: f64) -> (f64, f64) {
     let (s, c) = flow_rad.sin_cos();
+    lift_drag_resolved(lift, drag, s, c)
+}
+
+/// As [`lift_drag_to_body`] with the sine and cosine of the flow angle given.
+#[inline]
+fn lift_drag_resolved(lift: f64, drag: f64, s: f64, c: f64) -> (f64, f64) {
     (-drag * c + lift * s, -drag * s - lift * c)
 }
 
@@ -329,7 +366,16 @@ fn evaluate_with(
     let w_air = state.w_mps - (st * wind.x_mps + ct * wind.z_mps);
     let q = state.q_rad_s;
     let tilt = &controls.tilt_rad;
-    out.airspeed_mps = u_air.hypot(w_air);
+    if out.tilt_trig.len() != v.actuators.len() {
+        out.tilt_trig.clear();
+        out.tilt_trig.resize(v.actuators.len(), [f64::NAN; 3]);
+    }
+    for (last, &t) in out.tilt_trig.iter_mut().zip(tilt) {
+        sin_cos_memo(t, last);
+    }
+    let trig = &out.tilt_trig;
+    // Speeds are bounded far below overflow (limits), so the plain square root is safe.
+    out.airspeed_mps = (u_air * u_air + w_air * w_air).sqrt();
     out.alpha_rad = w_air.atan2(u_air);
     let mut fx = 0.0;
     let mut fz = 0.0;
@@ -342,17 +388,23 @@ fn evaluate_with(
         (u_air + q * dz, w_air - q * dx, dx, dz)
     };
 
-    // Rotors first: their induced velocity feeds the slipstream.
-    out.rotors.clear();
+    // Rotors first: their induced velocity feeds the slipstream. The last evaluation's entry
+    // of a group gives the sine and cosine of an unchanged axis.
+    out.rotors.truncate(v.rotors.len());
     for (g, r) in v.rotors.iter().enumerate() {
-        let pos = placed(v, r.position, r.actuator, tilt);
+        let pos = placed(v, r.position, r.actuator, trig);
         let (ul, wl, dx, dz) = local(pos);
         let axis = v.rotor_axis_rad(g, tilt);
-        let (sa, ca) = axis.sin_cos();
+        let (sa, ca) = match out.rotors.get(g) {
+            Some(last) if last.axis_rad.to_bits() == axis.to_bits() => {
+                (last.axis_sin, last.axis_cos)
+            }
+            _ => axis.sin_cos(),
+        };
         // Thrust direction t = (cos tau, -sin tau); inflow through the disc along t.
         let vn = ul * ca - wl * sa;
         let (tx, tz) = (ul - vn * ca, wl + vn * sa);
-        let vt = tx.hypot(tz);
+        let vt = (tx * tx + tz * tz).sqrt();
         let t1 = controls.thrust_n[g].max(0.0);
         let perf = rotor::performance(t1, rho, r.disk_area_m2(), vn, vt, r.power_model);
         let n = r.count as f64;
@@ -369,7 +421,7 @@ fn evaluate_with(
         mm += gm;
         let gp = n * perf.shaft_power_w;
         power += gp;
-        out.rotors.push(RotorLoad {
+        let load = RotorLoad {
             thrust_n: n * t1,
             axis_rad: axis,
             x_n: gx,
@@ -379,14 +431,20 @@ fn evaluate_with(
             v_inplane_mps: vt,
             performance: perf,
             power_w: gp,
-        });
+            axis_sin: sa,
+            axis_cos: ca,
+        };
+        match out.rotors.get_mut(g) {
+            Some(slot) => *slot = load,
+            None => out.rotors.push(load),
+        }
     }
 
     // Surfaces, in file order (downwash sources come first).
     out.surfaces.clear();
     out.parts.clear();
     for s in &v.surfaces {
-        let pos = placed(v, s.position, s.actuator, tilt);
+        let pos = placed(v, s.position, s.actuator, trig);
         let (ul, wl, dx, dz) = local(pos);
         let chord_angle = s.incidence_rad + s.actuator.map_or(0.0, |a| tilt[a]);
         let (flap, flap_cm) = s.elevator.map_or((0.0, 0.0), |e| {
@@ -418,11 +476,12 @@ fn evaluate_with(
                 let l = &s.slipstream[k - 1];
                 let rl = &out.rotors[l.rotor];
                 let vw = l.wake_factor * rl.performance.induced_velocity_mps;
-                let (sa, ca) = rl.axis_rad.sin_cos();
+                let (sa, ca) = (rl.axis_sin, rl.axis_cos);
                 // The wake moves against the thrust: the surface moves through it along +t.
                 (l.fraction, Some(l.rotor), ul + vw * ca, wl - vw * sa, 1.0)
             };
             let speed2 = ue * ue + we * we;
+            let speed = speed2.sqrt();
             let flow = we.atan2(ue) - eps;
             let alpha = wrap_pi(flow + chord_angle + flap);
             let c = s.polar.coefficients(alpha);
@@ -430,7 +489,12 @@ fn evaluate_with(
             let sa = frac * s.area_m2 * qdyn;
             let lift = sa * c.cl;
             let drag = sa * c.cd;
-            let (px, pz) = lift_drag_to_body(lift, drag, flow);
+            // Without downwash the flow direction is the velocity's own: no sine or cosine.
+            let (px, pz) = if eps == 0.0 && speed > 0.0 {
+                lift_drag_resolved(lift, drag, we / speed, ue / speed)
+            } else {
+                lift_drag_to_body(lift, drag, flow)
+            };
             let pm = sa * (c.cm + flap_cm) * s.chord_m + dz * px - dx * pz;
             load.x_n += px;
             load.z_n += pz;
@@ -444,7 +508,7 @@ fn evaluate_with(
                 fraction: frac,
                 rotor: rotor_ix,
                 alpha_rad: alpha,
-                speed_mps: speed2.sqrt(),
+                speed_mps: speed,
                 dynamic_pressure_pa: qdyn,
                 lift_n: lift,
                 drag_n: drag,
@@ -482,10 +546,16 @@ fn evaluate_with(
         let cl = d.cl0 + d.cl_alpha * a_lin + d.cl_q * q * chat + d.cl_elevator * de;
         let cd = d.cd0 + d.cd_alpha * a_lin + d.cd_k * (cl - d.cl0).powi(2);
         let cm = d.cm0 + d.cm_alpha * a_lin + d.cm_q * q * chat + d.cm_elevator * de;
-        let (x0, z0) = lift_drag_to_body(qs * cl, qs * cd, alpha);
+        // The flow direction is the velocity's own: its sine and cosine without atan2.
+        let (sf, cf) = if speed > 0.0 {
+            (wl / speed, ul / speed)
+        } else {
+            alpha.sin_cos()
+        };
+        let (x0, z0) = lift_drag_resolved(qs * cl, qs * cd, sf, cf);
         let m0 = qs * d.chord_m * cm + dz * x0 - dx * z0;
         // Loads per unit alpha-dot.
-        let (xa, za) = lift_drag_to_body(qs * d.cl_alphadot * chat, 0.0, alpha);
+        let (xa, za) = lift_drag_resolved(qs * d.cl_alphadot * chat, 0.0, sf, cf);
         let ma = qs * d.chord_m * d.cm_alphadot * chat + dz * xa - dx * za;
         let au = u_dot + x0 / m;
         let aw = w_dot + z0 / m;

@@ -571,7 +571,12 @@ pub fn run_sweep(
                     .margins
                     .as_ref()
                     .is_some_and(|m| m.stall_verdict != crate::margins::StallVerdict::Attached);
-                if !explore && (!sol.trimmed() || (stalled && stalled_run % 4 == 0)) {
+                // A failed warm start already makes `trim` try every cold start: only a
+                // point solved from its warm start alone is solved again.
+                if !explore
+                    && !sol.every_start
+                    && (!sol.trimmed() || (stalled && stalled_run % 4 == 0))
+                {
                     (rep, sol) = solve_point(v, atm, &req, &s.thresholds, warm.as_ref(), true);
                 }
                 let stalled = rep

@@ -175,6 +175,9 @@ pub struct TrimSolution {
     pub evaluations: usize,
     /// The full evaluation at the solution.
     pub evaluation: Evaluation,
+    /// Whether every start was tried (the warm start, if any, and all cold starts): a second
+    /// call with `explore` would repeat the same deterministic work and find the same answer.
+    pub every_start: bool,
 }
 
 impl TrimSolution {
@@ -1000,6 +1003,7 @@ pub fn trim(
         iterations,
         evaluations: p.evals,
         evaluation: p.eval.clone(),
+        every_start: tried_cold,
     }
 }
 
